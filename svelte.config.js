@@ -6,7 +6,7 @@ const config = {
 	preprocess: vitePreprocess(),
 	compilerOptions: { runes: true },
 	kit: {
-		adapter: adapter(),
+		adapter: adapter({ out: process.env.BUILD_DIR ?? 'build' }),
 		csp: {
 			mode: 'hash',
 			directives: {

@@ -1,0 +1,70 @@
+#!/usr/bin/env bash
+# npm start: everything a fresh clone needs, then the app on http://127.0.0.1:4173 (PORT overrides).
+set -euo pipefail
+source "$(dirname "${BASH_SOURCE[0]}")/lib.sh"
+t0=$(date +%s)
+
+ensure_deps
+ensure_secret
+
+export PORT="${PORT:-4173}"
+export HOST="${HOST:-127.0.0.1}"
+export ORIGIN="${ORIGIN:-http://$HOST:$PORT}"
+export AUTH_TRUST_HOST="${AUTH_TRUST_HOST:-true}"
+export DEMO_MODE="${DEMO_MODE:-true}"
+export PG_PORT="${PG_PORT:-54329}" PG_NAME="${PG_NAME:-pg}"
+export FAKE_DIR="${FAKE_DIR:-$ROOT/.data/fakes}"
+export FAKE_SMTP_PORT="${FAKE_SMTP_PORT:-2525}" FAKE_S3_PORT="${FAKE_S3_PORT:-4569}"
+export S3_BUCKET="${S3_BUCKET:-loopwarden-evidence}"
+
+bash scripts/db.sh start
+export DATABASE_URL="${DATABASE_URL:-$(bash scripts/db.sh url)}"
+
+if [ -z "${SMTP_URL:-}" ]; then
+	start_fakes .data/fakes.pid .data/fakes.log
+	export SMTP_URL="smtp://127.0.0.1:$FAKE_SMTP_PORT"
+	export MAIL_FAKE_DIR="$FAKE_DIR/mail"
+	export S3_ENDPOINT="${S3_ENDPOINT:-http://127.0.0.1:$FAKE_S3_PORT}"
+	export S3_ACCESS_KEY_ID="${S3_ACCESS_KEY_ID:-S3RVER}" S3_SECRET_ACCESS_KEY="${S3_SECRET_ACCESS_KEY:-S3RVER}"
+fi
+
+say "migrating"
+npm run --silent migrate
+if [ "$DEMO_MODE" = true ]; then npm run --silent seed; fi
+
+say "building"
+node_modules/.bin/vite build --logLevel error >.data/build.log 2>&1 || { cat .data/build.log; exit 1; }
+
+cleanup() {
+	trap - EXIT INT TERM
+	say "stopping"
+	kill_pidfile .data/worker.pid
+	kill_pidfile .data/fakes.pid
+	bash scripts/db.sh stop || true
+}
+trap cleanup EXIT INT TERM
+
+if [ -f scripts/worker.ts ]; then
+	kill_pidfile .data/worker.pid
+	setsid node_modules/.bin/tsx scripts/worker.ts >>.data/worker.log 2>&1 &
+	echo $! >.data/worker.pid
+fi
+
+node build &
+app=$!
+wait_port "$HOST" "$PORT" 30 || { say "the app did not start"; exit 1; }
+cat <<TXT
+
+  Loopwarden is running at $ORIGIN   (ready in $(($(date +%s) - t0)) s; Ctrl-C stops it)
+
+  Demo sign-ins (password: loopwarden-demo), project VX7:
+    admin@demo.loopwarden.test       site administrator
+    engineer@demo.loopwarden.test    engineer  (writes requirements)
+    analyst@demo.loopwarden.test     analyst   (models and analyses)
+    certifier@demo.loopwarden.test   certifier (reviews evidence, baselines, exports)
+    manager@demo.loopwarden.test     viewer    (reads; coverage)
+
+  Mail sent by the app lands in the local stand-in: Administration › Mail (demo mode).
+
+TXT
+wait $app

@@ -1,0 +1,23 @@
+import type { UserRow } from '$lib/server/identity/repo';
+import type { Role } from '$lib/server/identity/roles';
+
+declare global {
+	namespace App {
+		interface Error {
+			message: string;
+			errorId?: string;
+			fields?: Record<string, string>;
+		}
+		interface Locals {
+			user: UserRow | null;
+			/** Set when the request authenticated with a personal API token. */
+			apiToken: { id: number; projectId: number; role: Role } | null;
+			requestId: string;
+		}
+		// interface PageData {}
+		// interface PageState {}
+		// interface Platform {}
+	}
+}
+
+export {};

@@ -1,0 +1,60 @@
+import { randomUUID } from 'node:crypto';
+import type { Handle, HandleServerError } from '@sveltejs/kit';
+import { sequence } from '@sveltejs/kit/hooks';
+import { authHandle, userFromSession } from '$lib/server/auth';
+import { isDatabaseUnavailable } from '$lib/server/db';
+import { startMailLoop } from '$lib/server/mail';
+import { userFromApiToken } from '$lib/server/tokens-auth';
+
+startMailLoop();
+
+const identify: Handle = async ({ event, resolve }) => {
+	event.locals.requestId = randomUUID();
+	event.locals.user = null;
+	event.locals.apiToken = null;
+	try {
+		const bearer = event.request.headers.get('authorization');
+		if (bearer?.toLowerCase().startsWith('bearer ') && event.url.pathname.startsWith('/api/')) {
+			const found = await userFromApiToken(bearer.slice(7).trim());
+			if (found) {
+				event.locals.user = found.user;
+				event.locals.apiToken = found.token;
+			}
+		} else {
+			event.locals.user = await userFromSession(event);
+		}
+	} catch (e) {
+		if (isDatabaseUnavailable(e)) return unavailable(event.url.pathname);
+		throw e;
+	}
+	const response = await resolve(event);
+	response.headers.set('X-Content-Type-Options', 'nosniff');
+	response.headers.set('Referrer-Policy', 'same-origin');
+	response.headers.set('X-Request-Id', event.locals.requestId);
+	return response;
+};
+
+function unavailable(path: string): Response {
+	const message = 'The database is unavailable right now; nothing was changed. Try again shortly.';
+	if (path.startsWith('/api/')) {
+		return new Response(JSON.stringify({ error: { status: 503, message } }), {
+			status: 503,
+			headers: { 'content-type': 'application/json', 'retry-after': '5' }
+		});
+	}
+	return new Response(`<!doctype html><title>Unavailable</title><p>${message}</p>`, {
+		status: 503,
+		headers: { 'content-type': 'text/html; charset=utf-8', 'retry-after': '5' }
+	});
+}
+
+export const handle = sequence(authHandle, identify);
+
+export const handleError: HandleServerError = ({ error, event, status, message }) => {
+	const errorId = event.locals.requestId ?? randomUUID();
+	if (isDatabaseUnavailable(error)) {
+		return { message: 'The database is unavailable right now. Try again shortly.', errorId };
+	}
+	if (status !== 404) console.error(`[app] ${event.request.method} ${event.url.pathname} (${errorId}):`, error);
+	return { message: status === 404 ? message : 'Unexpected error; it has been logged.', errorId };
+};

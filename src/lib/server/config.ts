@@ -1,0 +1,42 @@
+// Server configuration from the environment.
+// Modules under src/lib/server are shared by the web app, the worker and the scripts (run with tsx,
+// where SvelteKit's $env modules do not exist), so they read process.env here, in one place.
+// Route code never reads the environment directly.
+
+function int(name: string, fallback: number): number {
+	const v = process.env[name];
+	if (v === undefined || v === '') return fallback;
+	const n = Number(v);
+	if (!Number.isFinite(n)) throw new Error(`${name} must be a number, got "${v}"`);
+	return n;
+}
+
+export const config = {
+	get databaseUrl(): string {
+		const url = process.env.DATABASE_URL;
+		if (!url) throw new Error('DATABASE_URL is not set');
+		return url;
+	},
+	get smtpUrl(): string | undefined {
+		return process.env.SMTP_URL || undefined;
+	},
+	get mailFrom(): string {
+		return process.env.MAIL_FROM || 'Loopwarden <no-reply@loopwarden.test>';
+	},
+	/** Where the local mail stand-in writes messages; only read in demo mode. */
+	get mailFakeDir(): string | undefined {
+		return process.env.MAIL_FAKE_DIR || undefined;
+	},
+	get publicOrigin(): string {
+		return process.env.ORIGIN || 'http://127.0.0.1:4173';
+	},
+	get demoMode(): boolean {
+		return process.env.DEMO_MODE === 'true';
+	},
+	get signInMaxFailures(): number {
+		return int('SIGNIN_MAX_FAILURES', 5);
+	},
+	get signInWindowMinutes(): number {
+		return int('SIGNIN_WINDOW_MINUTES', 15);
+	}
+};

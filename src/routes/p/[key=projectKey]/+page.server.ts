@@ -1,0 +1,7 @@
+import { requireRole } from '$lib/server/auth';
+import type { PageServerLoad } from './$types';
+
+export const load = (async (event) => {
+	const { project, role } = await requireRole(event, event.params.key);
+	return { project: { key: project.key, name: project.name, description: project.description }, role };
+}) satisfies PageServerLoad;
