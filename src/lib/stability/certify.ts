@@ -52,7 +52,8 @@ export function certifiedHurwitz(p: DPoly, forceExact = false): HurwitzResult {
 	if (!forceExact) {
 		const disks = inclusionDisks(a, err, roots);
 		if (disks) {
-			if (disks.every((d) => d.c.re + d.r < 0)) return { hurwitz: true, path: 'filter', roots, maxRealPart: maxRe };
+			if (disks.every((d) => d.c.re + d.r < 0))
+				return { hurwitz: true, path: 'filter', roots, maxRealPart: maxRe };
 			if (someComponentInOpenRHP(disks)) return { hurwitz: false, path: 'filter', roots, maxRealPart: maxRe };
 		}
 	}
@@ -119,7 +120,8 @@ export function certifiedPositiveOnHalfLine(
 		const { a, err } = toFloatWithBounds(c);
 		const roots = polyRoots(a);
 		const disks = inclusionDisks(a, err, roots);
-		if (disks && !disksMeetNonnegativeReals(disks)) return { positive: true, path: 'filter', positiveRoots: 0 };
+		if (disks && !disksMeetNonnegativeReals(disks))
+			return { positive: true, path: 'filter', positiveRoots: 0 };
 		// Try the approximate positive roots' neighbourhoods as exact witnesses of a sign change.
 		const cand: number[] = [];
 		const reals = roots

@@ -16,7 +16,9 @@ export class ModelInputError extends Error {
 }
 
 const finite = (what: string) =>
-	z.number({ error: (iss) => (iss.input === undefined ? `${what} is required` : `${what} must be a finite number`) });
+	z.number({
+		error: (iss) => (iss.input === undefined ? `${what} is required` : `${what} must be a finite number`)
+	});
 
 const coeffList = (what: string) =>
 	z.array(finite(`each ${what} coefficient`), { error: `${what} must be an array of numbers` });
@@ -112,12 +114,20 @@ const ssSchema = z
 	.superRefine((m, ctx) => {
 		const n = m.A.length;
 		if (n === 0) {
-			ctx.addIssue({ code: 'custom', path: ['A'], message: 'A is empty: a state-space model needs at least one state' });
+			ctx.addIssue({
+				code: 'custom',
+				path: ['A'],
+				message: 'A is empty: a state-space model needs at least one state'
+			});
 			return;
 		}
 		m.A.forEach((row, i) => {
 			if (row.length !== n)
-				ctx.addIssue({ code: 'custom', path: ['A', i], message: `A is not square: row ${i} has ${row.length} entries, expected ${n}` });
+				ctx.addIssue({
+					code: 'custom',
+					path: ['A', i],
+					message: `A is not square: row ${i} has ${row.length} entries, expected ${n}`
+				});
 		});
 		if (m.B.length !== n || m.B.some((r) => r.length !== 1))
 			ctx.addIssue({ code: 'custom', path: ['B'], message: `B must be ${n}x1 (single input) to match A` });
@@ -150,27 +160,43 @@ const sectorSchema = z.tuple([finite('lower sector bound k1'), upperBound], {
 	error: 'sector must be a pair [k1, k2]'
 });
 
-const circleCheck = z
-	.object({ type: z.literal('circle'), sector: sectorSchema })
-	.superRefine((c, ctx) => {
-		const [k1, k2] = c.sector;
-		if (Number.isNaN(k2) || k2 === -Infinity)
-			ctx.addIssue({ code: 'custom', path: ['sector', 1], message: 'upper sector bound k2 must be finite or +Infinity' });
-		else if (!(k1 < k2))
-			ctx.addIssue({ code: 'custom', path: ['sector'], message: `sector needs k1 < k2 (got k1 = ${k1}, k2 = ${k2})` });
-	});
+const circleCheck = z.object({ type: z.literal('circle'), sector: sectorSchema }).superRefine((c, ctx) => {
+	const [k1, k2] = c.sector;
+	if (Number.isNaN(k2) || k2 === -Infinity)
+		ctx.addIssue({
+			code: 'custom',
+			path: ['sector', 1],
+			message: 'upper sector bound k2 must be finite or +Infinity'
+		});
+	else if (!(k1 < k2))
+		ctx.addIssue({
+			code: 'custom',
+			path: ['sector'],
+			message: `sector needs k1 < k2 (got k1 = ${k1}, k2 = ${k2})`
+		});
+});
 
-const popovCheck = z
-	.object({ type: z.literal('popov'), sector: sectorSchema })
-	.superRefine((c, ctx) => {
-		const [k1, k] = c.sector;
-		if (k1 !== 0)
-			ctx.addIssue({ code: 'custom', path: ['sector', 0], message: 'the Popov criterion here takes a sector [0, k]: k1 must be 0' });
-		if (!Number.isFinite(k))
-			ctx.addIssue({ code: 'custom', path: ['sector', 1], message: 'the Popov check needs a finite upper bound k' });
-		else if (!(k > 0))
-			ctx.addIssue({ code: 'custom', path: ['sector', 1], message: `the upper bound k must be positive (got ${k})` });
-	});
+const popovCheck = z.object({ type: z.literal('popov'), sector: sectorSchema }).superRefine((c, ctx) => {
+	const [k1, k] = c.sector;
+	if (k1 !== 0)
+		ctx.addIssue({
+			code: 'custom',
+			path: ['sector', 0],
+			message: 'the Popov criterion here takes a sector [0, k]: k1 must be 0'
+		});
+	if (!Number.isFinite(k))
+		ctx.addIssue({
+			code: 'custom',
+			path: ['sector', 1],
+			message: 'the Popov check needs a finite upper bound k'
+		});
+	else if (!(k > 0))
+		ctx.addIssue({
+			code: 'custom',
+			path: ['sector', 1],
+			message: `the upper bound k must be positive (got ${k})`
+		});
+});
 
 const positiveRealCheck = z.object({ type: z.literal('positive-real') });
 const maxSectorCheck = z.object({ type: z.literal('max-sector'), lower: finite('lower sector bound') });
@@ -188,7 +214,10 @@ export const checkSchema = z.discriminatedUnion(
 
 export type Check = z.infer<typeof checkSchema>;
 
-const operatingPoint = z.object({ label: z.string({ error: 'label must be a string' }).min(1, 'label is empty'), model: modelSchema });
+const operatingPoint = z.object({
+	label: z.string({ error: 'label must be a string' }).min(1, 'label is empty'),
+	model: modelSchema
+});
 
 export const caseSchema = z
 	.object({
@@ -200,14 +229,22 @@ export const caseSchema = z
 		if (c.model === undefined && c.operatingPoints === undefined)
 			ctx.addIssue({ code: 'custom', path: ['model'], message: 'give either model or operatingPoints' });
 		if (c.model !== undefined && c.operatingPoints !== undefined)
-			ctx.addIssue({ code: 'custom', path: ['operatingPoints'], message: 'give model or operatingPoints, not both' });
+			ctx.addIssue({
+				code: 'custom',
+				path: ['operatingPoints'],
+				message: 'give model or operatingPoints, not both'
+			});
 		if (c.operatingPoints) {
 			if (c.operatingPoints.length === 0)
 				ctx.addIssue({ code: 'custom', path: ['operatingPoints'], message: 'operatingPoints is empty' });
 			const seen = new Set<string>();
 			c.operatingPoints.forEach((p, i) => {
 				if (seen.has(p.label))
-					ctx.addIssue({ code: 'custom', path: ['operatingPoints', i, 'label'], message: `duplicate label "${p.label}"` });
+					ctx.addIssue({
+						code: 'custom',
+						path: ['operatingPoints', i, 'label'],
+						message: `duplicate label "${p.label}"`
+					});
 				seen.add(p.label);
 			});
 		}

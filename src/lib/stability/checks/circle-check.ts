@@ -1,0 +1,82 @@
+import type { Plant } from '../model';
+import { type CheckResult, enc } from '../types';
+import { circleCore, diskOf, nyquistDistance } from './circle';
+
+const fmt = (x: number) => (Number.isFinite(x) ? Number(x.toPrecision(6)).toString() : String(x));
+
+export const CIRCLE_ASSUMPTIONS =
+	'Holds for every nonlinearity, time-varying or not, that stays in the sector; the linear model is taken as exact; the criterion is sufficient, not necessary.';
+
+export function runCircle(plant: Plant, k1: number, k2: number): CheckResult {
+	const core = circleCore(plant, k1, k2);
+	const w0 = plant.w0;
+	const wOf = (x: number | null | undefined) =>
+		x === null || x === undefined ? null : Math.sqrt(Math.max(0, x)) * w0;
+	const dist = nyquistDistance(plant, k1, k2);
+	const sector = `[${fmt(k1)}, ${k2 === Infinity ? 'infinity' : fmt(k2)}]`;
+	const caseName = k1 > 0 ? 'k1 > 0' : k1 === 0 ? 'k1 = 0' : 'k1 < 0';
+	const criticalFrequency =
+		core.witnessX !== undefined ? wOf(core.argminX ?? core.witnessX) : wOf(core.argminX);
+	const numbers: Record<string, number | string | null> = {
+		k1,
+		k2: enc(k2),
+		sectorCase: caseName,
+		minReZ: enc(core.minReZ ?? NaN),
+		nyquistDistance: enc(dist.distance),
+		nyquistDistanceFrequency: wOf(dist.x),
+		denominatorHurwitz: core.qHurwitz ? 'yes' : 'no',
+		closestRootRealPart: core.qMaxRealPart === null ? null : core.qMaxRealPart * w0,
+		hurwitzDecidedBy: core.hurwitzPath,
+		positivityDecidedBy: core.positivityPath ?? null,
+		witnessFrequency: core.witnessX !== undefined ? wOf(core.witnessX) : null,
+		frequencyScale: w0
+	};
+	const geo = diskOf(k1, k2);
+	const region =
+		geo.kind === 'half-plane'
+			? `the half-plane Re G > ${fmt(geo.boundary)}`
+			: k1 > 0
+				? `the outside of the disk centred at ${fmt(geo.centre)} with radius ${fmt(geo.radius)}`
+				: `the inside of the disk centred at ${fmt(geo.centre)} with radius ${fmt(geo.radius)}`;
+	let explanation: string;
+	let reason: string | undefined;
+	if (core.pass) {
+		explanation = `Absolutely stable for every nonlinearity in the sector ${sector}: the Nyquist curve stays in ${region}${k1 > 0 ? ' with the required encirclements' : ''}, proved exactly.`;
+	} else {
+		switch (core.failure) {
+			case 'ill-posed':
+				reason = `1 + k1 G has lower degree than the plant: the loop with gain k1 = ${fmt(k1)} is not well posed.`;
+				break;
+			case 'hurwitz':
+				reason =
+					k1 === 0
+						? 'The plant is not Hurwitz (a pole with non-negative real part), so the case k1 = 0 cannot certify anything.'
+						: k1 > 0
+							? `The loop closed with gain k1 = ${fmt(k1)} is unstable: the Nyquist curve does not encircle -1/k1 as many times as G has right-half-plane poles.`
+							: `The loop closed with gain k1 = ${fmt(k1)} is unstable (1 + k1 G has a zero with non-negative real part).`;
+				break;
+			case 'infinity':
+				reason =
+					'At high frequency Re Z does not stay positive in the way strict positive realness requires (relative degree of Z above one).';
+				break;
+			case 'lossless':
+				reason = 'Re Z(jw) is identically zero: Z is lossless, not strictly positive real.';
+				break;
+			default:
+				reason = `The Nyquist curve enters the forbidden region${
+					core.witnessX !== undefined ? ` (shown exactly at ${fmt(wOf(core.witnessX) ?? 0)} rad/s)` : ''
+				}.`;
+		}
+		explanation = `Not certified for the sector ${sector}: ${reason.charAt(0).toLowerCase()}${reason.slice(1)}`;
+	}
+	return {
+		type: 'circle',
+		verdict: core.pass ? 'pass' : 'fail',
+		criticalFrequency,
+		margin: enc(core.minReZ ?? NaN),
+		numbers,
+		explanation,
+		...(reason ? { reason } : {}),
+		assumptions: CIRCLE_ASSUMPTIONS
+	};
+}

@@ -1,0 +1,333 @@
+// Popov criterion (Khalil, Nonlinear Systems, 3rd ed., Theorem 7.3; Popov 1961): for a time-invariant
+// nonlinearity in the sector [0, k], G strictly proper and Hurwitz (A Hurwitz, (A, B) controllable,
+// (A, C) observable), the loop is absolutely stable if some q >= 0 gives
+//     1/k + Re[(1 + j w q) G(jw)] > 0   for all real w.
+// With G = N/D, Re[N(jw) D(-jw)] = R(x) and Im[N(jw) D(-jw)] = w J(x), x = w^2:
+//     Re[(1 + j w q) G(jw)] = (R(x) - q x J(x)) / |D(jw)|^2,
+// so the condition is the polynomial E_q(x) = |D|^2 + k (R - q x J) > 0 on [0, inf), decided exactly.
+//
+// g(q) = min_w Re[(1 + jwq) G(jw)] is concave in q (a minimum of affine functions), so the best multiplier
+// q* = argmax g is found by a one-dimensional search, and the largest certified k is -1/g(q*).
+// A fail is certified by witnesses: frequencies at which the constraints on q (each frequency gives
+// q < bound or q > bound) contradict each other, evaluated exactly.
+import {
+	type DPoly,
+	type Dyadic,
+	addD,
+	degree,
+	dyadicOf,
+	evenRealPart,
+	oddImagPart,
+	oddMultiplicityPositiveRoots,
+	scaleD
+} from '../exact';
+import { certifiedHurwitz, certifiedPositiveOnHalfLine } from '../certify';
+import { addF, toFloatCommon } from '../fpoly';
+import type { Plant } from '../model';
+import { minRatioOnHalfLine } from '../roots';
+import { type CheckResult, enc } from '../types';
+
+const fmt = (x: number) => (Number.isFinite(x) ? Number(x.toPrecision(6)).toString() : String(x));
+
+interface PopovPolys {
+	M: DPoly;
+	R: DPoly;
+	xJ: DPoly;
+	Mf: number[];
+	Rf: number[];
+	xJf: number[];
+}
+
+function popovPolys(plant: Plant): PopovPolys {
+	const M = evenRealPart(plant.Ds, plant.Ds);
+	const R = evenRealPart(plant.Ns, plant.Ds);
+	const J = oddImagPart(plant.Ns, plant.Ds);
+	const xJ: DPoly = { c: [0n, ...J.c], e: J.e };
+	const [Mf, Rf, xJf] = toFloatCommon([M, R, xJ]);
+	return { M, R, xJ, Mf, Rf, xJf };
+}
+
+/** g(q) in scaled units and its minimiser x. */
+function gOf(pp: PopovPolys, q: number): { value: number; x: number | null } {
+	const u = addF(pp.Rf, pp.xJf, -q);
+	const m = minRatioOnHalfLine(u, pp.Mf);
+	return { value: m.value, x: m.x };
+}
+
+function maximiseG(pp: PopovPolys): { q: number; g: number; x: number | null } {
+	const g0 = gOf(pp, 0);
+	let best = { q: 0, g: g0.value, x: g0.x };
+	const grid: number[] = [];
+	for (let e = -8; e <= 8; e += 0.5) grid.push(10 ** e);
+	let bi = -1;
+	for (let i = 0; i < grid.length; i++) {
+		const r = gOf(pp, grid[i]);
+		if (r.value > best.g) {
+			best = { q: grid[i], g: r.value, x: r.x };
+			bi = i;
+		}
+	}
+	// Golden-section search on the concave g between the neighbours of the best grid point.
+	let a = bi <= 0 ? 0 : grid[bi - 1];
+	let b = bi < 0 ? grid[0] : bi + 1 < grid.length ? grid[bi + 1] : grid[bi] * 10;
+	const phi = (Math.sqrt(5) - 1) / 2;
+	let c = b - phi * (b - a);
+	let d = a + phi * (b - a);
+	let gc = gOf(pp, c).value;
+	let gd = gOf(pp, d).value;
+	for (let it = 0; it < 80 && b - a > 1e-13 * Math.max(1, b); it++) {
+		if (gc > gd) {
+			b = d;
+			d = c;
+			gd = gc;
+			c = b - phi * (b - a);
+			gc = gOf(pp, c).value;
+		} else {
+			a = c;
+			c = d;
+			gc = gd;
+			d = a + phi * (b - a);
+			gd = gOf(pp, d).value;
+		}
+	}
+	const qm = (a + b) / 2;
+	const r = gOf(pp, qm);
+	if (r.value > best.g) best = { q: qm, g: r.value, x: r.x };
+	return { q: best.q, g: best.g, x: best.x };
+}
+
+/** E_q(x) = M + k R - k q xJ, exact for dyadic k and q. */
+function popovE(pp: PopovPolys, k: number, q: number): DPoly {
+	const kd = dyadicOf(k);
+	const kq: Dyadic = dyadicOf(q);
+	let E = addD(pp.M, scaleD(pp.R, kd));
+	if (q !== 0) E = addD(E, scaleD(pp.xJ, { m: -kd.m * kq.m, e: kd.e + kq.e }));
+	return E;
+}
+
+function evalDyadic(p: DPoly, x: Dyadic): Dyadic {
+	// exact value of p at a dyadic x, as a dyadic
+	const n = p.c.length - 1;
+	if (n < 0) return { m: 0n, e: 0 };
+	if (x.e >= 0) {
+		const xv = x.m << BigInt(x.e);
+		let acc = 0n;
+		for (let i = n; i >= 0; i--) acc = acc * xv + p.c[i];
+		return { m: acc, e: p.e };
+	}
+	const f = BigInt(-x.e);
+	let acc = 0n;
+	let d = 1n;
+	for (let i = n; i >= 0; i--) {
+		acc = acc * x.m + p.c[i] * d;
+		d <<= f;
+	}
+	return { m: acc, e: p.e + x.e * n };
+}
+
+function cmpDyadic(a: Dyadic, b: Dyadic): number {
+	const e = Math.min(a.e, b.e);
+	const av = a.m << BigInt(a.e - e);
+	const bv = b.m << BigInt(b.e - e);
+	return av > bv ? 1 : av < bv ? -1 : 0;
+}
+
+function mulDy(a: Dyadic, b: Dyadic): Dyadic {
+	return { m: a.m * b.m, e: a.e + b.e };
+}
+
+/**
+ * Exact proof that no q >= 0 satisfies the Popov inequality for this k, from candidate frequencies.
+ * F = M + kR, H = k xJ. Each x gives F(x) - q H(x) > 0: q < F/H if H > 0, q > F/H if H < 0, F > 0 if H = 0.
+ */
+function infeasibilityWitness(pp: PopovPolys, k: number, xs: number[]): number[] | null {
+	const kd = dyadicOf(k);
+	const F = addD(pp.M, scaleD(pp.R, kd));
+	const H = scaleD(pp.xJ, kd);
+	const pts = xs
+		.filter((x) => x >= 0 && Number.isFinite(x))
+		.map((x) => {
+			const xd = dyadicOf(x);
+			return { x, f: evalDyadic(F, xd), h: evalDyadic(H, xd) };
+		});
+	const zero = { m: 0n, e: 0 };
+	for (const p of pts) if (cmpDyadic(p.f, zero) <= 0 && cmpDyadic(p.h, zero) >= 0) return [p.x];
+	const lower = pts.filter((p) => cmpDyadic(p.h, zero) < 0);
+	const upper = pts.filter((p) => cmpDyadic(p.h, zero) > 0);
+	for (const l of lower)
+		for (const u of upper) {
+			// q > Fl/Hl and q < Fu/Hu contradict when Fl/Hl >= Fu/Hu; Hl < 0 < Hu: Fl Hu <= Fu Hl.
+			if (cmpDyadic(mulDy(l.f, u.h), mulDy(u.f, l.h)) <= 0) return [l.x, u.x];
+		}
+	return null;
+}
+
+export interface PopovCore {
+	applicable: boolean;
+	reason?: string;
+	hurwitz: boolean;
+	qScaled: number;
+	gBest: number;
+	threshold: number;
+	thresholdCertified: number | null;
+	argminX: number | null;
+	pp?: PopovPolys;
+}
+
+export function popovCore(plant: Plant): PopovCore {
+	if (degree(plant.Ns) >= plant.order)
+		return {
+			applicable: false,
+			reason:
+				'The Popov criterion (Khalil, Theorem 7.3) is stated for a strictly proper plant; this one has a direct feedthrough.',
+			hurwitz: false,
+			qScaled: NaN,
+			gBest: NaN,
+			threshold: NaN,
+			thresholdCertified: null,
+			argminX: null
+		};
+	const hw = certifiedHurwitz(plant.Ds);
+	if (!hw.hurwitz)
+		return {
+			applicable: true,
+			hurwitz: false,
+			qScaled: NaN,
+			gBest: NaN,
+			threshold: NaN,
+			thresholdCertified: null,
+			argminX: null
+		};
+	const pp = popovPolys(plant);
+	const best = maximiseG(pp);
+	const threshold = best.g >= 0 ? Infinity : -1 / best.g;
+	// Certify a threshold with q*: largest of a few values just below the estimate that passes exactly.
+	let thresholdCertified: number | null = null;
+	if (threshold === Infinity) {
+		// Every finite k works with q* when R - q* x J >= 0 on [0, inf) (|D|^2 > 0 there as D is Hurwitz).
+		const U = popovE({ ...pp, M: { c: [], e: 0 } }, 1, best.q);
+		const strict = certifiedPositiveOnHalfLine(U).positive;
+		const weak =
+			strict ||
+			(U.c.length > 0 && U.c[0] >= 0n && U.c[U.c.length - 1] > 0n && oddMultiplicityPositiveRoots(U.c) === 0);
+		if (weak) thresholdCertified = Infinity;
+	} else {
+		for (const f of [1e-9, 1e-7, 1e-5, 1e-3, 1e-2, 0.1, 0.5]) {
+			const kk = threshold * (1 - f);
+			if (certifiedPositiveOnHalfLine(popovE(pp, kk, best.q)).positive) {
+				thresholdCertified = kk;
+				break;
+			}
+		}
+	}
+	return {
+		applicable: true,
+		hurwitz: true,
+		qScaled: best.q,
+		gBest: best.g,
+		threshold,
+		thresholdCertified,
+		argminX: best.x,
+		pp
+	};
+}
+
+export function runPopov(plant: Plant, k: number): CheckResult {
+	const core = popovCore(plant);
+	const w0 = plant.w0;
+	const assumptions =
+		'Only for time-invariant (memoryless) nonlinearities in the sector; the plant must be Hurwitz and strictly proper with a minimal realisation; sufficient, not necessary.';
+	const base = { type: 'popov' as const, assumptions };
+	if (!core.applicable)
+		return {
+			...base,
+			verdict: 'inconclusive',
+			q: null,
+			threshold: null,
+			numbers: { k },
+			explanation: core.reason!,
+			reason: core.reason
+		};
+	if (!core.hurwitz) {
+		const reason =
+			'The plant is not Hurwitz; with phi = 0 (inside the sector) the loop is not asymptotically stable.';
+		return {
+			...base,
+			verdict: 'fail',
+			q: null,
+			threshold: null,
+			numbers: { k },
+			explanation: reason,
+			reason
+		};
+	}
+	const pp = core.pp!;
+	const q = core.qScaled / w0;
+	const numbers: Record<string, number | string | null> = {
+		k,
+		q,
+		thresholdEstimate: enc(core.threshold),
+		thresholdCertifiedWithQ: enc(core.thresholdCertified),
+		minPopovReal: core.gBest,
+		frequencyScale: w0
+	};
+	const critical = core.argminX === null ? null : Math.sqrt(core.argminX) * w0;
+	const threshold = core.thresholdCertified;
+	// Try q*, then q = 0 (the circle-criterion multiplier) for this k.
+	for (const qs of [core.qScaled, 0]) {
+		const E = popovE(pp, k, qs);
+		const pos = certifiedPositiveOnHalfLine(E, core.argminX !== null ? [core.argminX] : []);
+		if (pos.positive) {
+			const qq = qs / w0;
+			return {
+				...base,
+				verdict: 'pass',
+				q: qq,
+				threshold: enc(threshold),
+				criticalFrequency: critical,
+				margin: 1 / k + core.gBest,
+				numbers: { ...numbers, q: qq, positivityDecidedBy: pos.path },
+				explanation: `Absolutely stable for every time-invariant nonlinearity in [0, ${fmt(k)}]: the Popov line through -1/k with slope 1/q, q = ${fmt(qq)} s, is certified exactly.`
+			};
+		}
+	}
+	// Look for an exact proof that no q works.
+	const xs: number[] = [0];
+	for (const qs of [core.qScaled, core.qScaled + 1e-6, 0]) {
+		const r = gOf(pp, qs);
+		if (r.x !== null) xs.push(r.x);
+	}
+	for (const dq of [1e-6, 1e-4, 1e-2, 1e-1, 1]) {
+		for (const qs of [core.qScaled * (1 + dq), Math.max(0, core.qScaled * (1 - dq))]) {
+			const r = gOf(pp, qs);
+			if (r.x !== null) xs.push(r.x);
+		}
+	}
+	const wit = infeasibilityWitness(pp, k, xs);
+	if (wit) {
+		const reason = `No multiplier q >= 0 exists: the Popov inequality at ${wit.map((x) => fmt(Math.sqrt(x) * w0)).join(' and ')} rad/s ${wit.length > 1 ? 'gives contradictory bounds on q' : 'fails for every q >= 0'} (exact).`;
+		return {
+			...base,
+			verdict: 'fail',
+			q: null,
+			threshold: enc(threshold),
+			criticalFrequency: critical,
+			margin: 1 / k + core.gBest,
+			numbers: { ...numbers, witnessFrequencies: wit.map((x) => Math.sqrt(x) * w0).join(',') },
+			explanation: `Not certified for [0, ${fmt(k)}]: the Popov criterion certifies sectors up to [0, ${threshold === Infinity ? 'infinity' : fmt(threshold ?? NaN)}] only.`,
+			reason
+		};
+	}
+	const reason = `The best multiplier found (q = ${fmt(q)} s) does not certify k = ${fmt(k)}, and no exact proof that none exists was found (k is within numerical reach of the Popov limit ${fmt(core.threshold)}).`;
+	return {
+		...base,
+		verdict: 'inconclusive',
+		q: null,
+		threshold: enc(threshold),
+		criticalFrequency: critical,
+		margin: 1 / k + core.gBest,
+		numbers,
+		explanation: reason,
+		reason
+	};
+}

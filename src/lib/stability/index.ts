@@ -1,0 +1,19 @@
+// Loopwarden's certified stability engine. Pure TypeScript: no I/O, runs in the browser and on the server.
+export { ENGINE_VERSION } from './version';
+export {
+	modelSchema,
+	checkSchema,
+	caseSchema,
+	parseModel,
+	parseCheck,
+	parseCase,
+	ModelInputError,
+	type Model,
+	type Check,
+	type Case,
+	type InputIssue
+} from './schema';
+export type { CheckResult, Verdict, PositiveRealClass, NumberOrInf } from './types';
+export { toTransferFunction, poles, zeros, dcGain, relativeDegree } from './model';
+export { runCheck, runCheckOnPoints, analyzeCase } from './run';
+export { nyquistCurve, sectorGeometry, popovCurve, reZCurve, type CurvePoint } from './present';

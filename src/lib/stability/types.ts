@@ -1,0 +1,41 @@
+// Result types shared by every check. Results are plain JSON-serialisable data.
+//
+// Infinity convention: JSON cannot hold Infinity, so an infinite value (for example an unbounded largest
+// sector, or an infinite gain margin) is written as the string 'Infinity' everywhere in a result, both in
+// the top-level fields and in `numbers`. `null` means "not defined / not applicable" (for example no
+// critical frequency because the extremum is approached only as w -> infinity). Inputs accept the same
+// spelling ("Infinity", or null) for an infinite upper sector bound.
+
+export type Verdict = 'pass' | 'fail' | 'inconclusive';
+export type PositiveRealClass = 'SPR' | 'PR' | 'neither';
+export type NumberOrInf = number | 'Infinity' | '-Infinity';
+
+export interface CheckResult {
+	type: 'circle' | 'popov' | 'positive-real' | 'max-sector' | 'margins';
+	verdict: Verdict;
+	class?: PositiveRealClass;
+	/** rad/s; where the deciding quantity is smallest. */
+	criticalFrequency?: number | null;
+	/** Largest certified upper bound (max-sector, popov). */
+	threshold?: NumberOrInf | null;
+	/** Popov multiplier that certifies the sector. */
+	q?: number | null;
+	/** Check-specific margin (see `numbers` for the named quantities). */
+	margin?: NumberOrInf | null;
+	/** Gains k for which 1 + kG is stable, as [low, high] intervals ('Infinity' / '-Infinity' ends). */
+	linearGainIntervals?: [NumberOrInf, NumberOrInf][];
+	numbers: Record<string, number | string | null>;
+	/** One sentence, in the user's words. */
+	explanation: string;
+	/** Why the verdict is inconclusive (or which condition decided a fail). */
+	reason?: string;
+	assumptions?: string;
+}
+
+/** Encode a number for JSON under the Infinity convention above; NaN becomes null. */
+export function enc(x: number | null | undefined): NumberOrInf | null {
+	if (x === null || x === undefined || Number.isNaN(x)) return null;
+	if (x === Infinity) return 'Infinity';
+	if (x === -Infinity) return '-Infinity';
+	return x;
+}

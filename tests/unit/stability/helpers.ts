@@ -1,0 +1,96 @@
+// Independent references for the engine tests: high-precision evaluation with mathjs BigNumber (a general
+// library, not engine code) and plant construction from known factors.
+import { all, create } from 'mathjs';
+import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
+
+const math = create(all, { number: 'BigNumber', precision: 64 });
+type BN = ReturnType<typeof math.bignumber>;
+
+/** Re and Im of p(jw), p highest power first, in 64-digit arithmetic. */
+function evalJwBig(p: number[], w: BN): { re: BN; im: BN } {
+	let re = math.bignumber(0);
+	let im = math.bignumber(0);
+	for (const c of p) {
+		// (re + j im)(j w) + c
+		const nre = math.add(math.multiply(math.unaryMinus(im), w), math.bignumber(c)) as BN;
+		const nim = math.multiply(re, w) as BN;
+		re = nre;
+		im = nim;
+	}
+	return { re, im };
+}
+
+/** G(jw) = num(jw)/den(jw) at 64 digits, returned as doubles. */
+export function gJwBig(num: number[], den: number[], w: number): { re: number; im: number } {
+	const W = math.bignumber(w);
+	const n = evalJwBig(num, W);
+	const d = evalJwBig(den, W);
+	const d2 = math.add(math.multiply(d.re, d.re), math.multiply(d.im, d.im)) as BN;
+	const re = math.divide(math.add(math.multiply(n.re, d.re), math.multiply(n.im, d.im)), d2) as BN;
+	const im = math.divide(math.subtract(math.multiply(n.im, d.re), math.multiply(n.re, d.im)), d2) as BN;
+	return { re: Number(re.toString()), im: Number(im.toString()) };
+}
+
+/** Minimum of Re G(jw) over a dense log grid (an upper bound on the true minimum). */
+export function gridMinReG(
+	num: number[],
+	den: number[],
+	wLo: number,
+	wHi: number,
+	n: number
+): { value: number; w: number } {
+	let best = { value: Infinity, w: NaN };
+	for (let i = 0; i <= n; i++) {
+		const w = wLo * (wHi / wLo) ** (i / n);
+		const v = gJwBig(num, den, w).re;
+		if (v < best.value) best = { value: v, w };
+	}
+	return best;
+}
+
+/** Polynomial (highest power first) with the given roots, in doubles. */
+export function polyFromRoots(roots: { re: number; im: number }[]): number[] {
+	// Multiply real factors and conjugate-pair quadratics.
+	let p = [1];
+	const mul = (a: number[], b: number[]) => {
+		const c = new Array(a.length + b.length - 1).fill(0);
+		for (let i = 0; i < a.length; i++) for (let j = 0; j < b.length; j++) c[i + j] += a[i] * b[j];
+		return c;
+	};
+	for (const r of roots) {
+		if (r.im === 0) p = mul(p, [1, -r.re]);
+		else if (r.im > 0) p = mul(p, [1, -2 * r.re, r.re * r.re + r.im * r.im]);
+	}
+	return p;
+}
+
+/** Eigenvalues of the companion matrix of p (highest power first) by ml-matrix: an independent root finder. */
+export function companionRoots(p: number[]): { re: number; im: number }[] {
+	const n = p.length - 1;
+	const a = p.map((c) => c / p[0]);
+	const M = Matrix.zeros(n, n);
+	for (let j = 0; j < n; j++) M.set(0, j, -a[j + 1]);
+	for (let i = 1; i < n; i++) M.set(i, i - 1, 1);
+	const e = new EigenvalueDecomposition(M);
+	return e.realEigenvalues.map((re, i) => ({ re, im: e.imaginaryEigenvalues[i] }));
+}
+
+/** Controllable canonical state-space form of num/den (highest power first, den monic after scaling). */
+export function controllableForm(num: number[], den: number[]) {
+	const n = den.length - 1;
+	const a = den.map((c) => c / den[0]);
+	const b = new Array(n + 1 - num.length).fill(0).concat(num.map((c) => c / den[0]));
+	const d = b[0];
+	// G = d + (b - d a)(s) / a(s)
+	const r = b.map((v, i) => v - d * a[i]);
+	const A: number[][] = [];
+	for (let i = 0; i < n; i++) {
+		const row = new Array(n).fill(0);
+		if (i < n - 1) row[i + 1] = 1;
+		else for (let j = 0; j < n; j++) row[j] = -a[n - j];
+		A.push(row);
+	}
+	const B = A.map((_, i) => [i === n - 1 ? 1 : 0]);
+	const C = [new Array(n).fill(0).map((_, j) => r[n - j])];
+	return { kind: 'ss' as const, A, B, C, D: [[d]] };
+}
