@@ -1,0 +1,108 @@
+import PgBoss from 'pg-boss';
+import { config } from '../config';
+import type { Db } from '../db';
+
+// The job queue (pg-boss, PostgreSQL-backed). The web app only inserts jobs, inside the transaction of
+// the change that caused them; the worker (scripts/worker.ts) fetches and runs them.
+
+export const RUN_QUEUE = 'analysis-run';
+export const BOSS_SCHEMA = 'pgboss';
+
+function int(name: string, fallback: number): number {
+	const n = Number(process.env[name]);
+	return Number.isFinite(n) && n > 0 ? n : fallback;
+}
+
+/** Retry and expiry of one analysis job. A crashed worker's job expires and is retried by another. */
+export function runJobPolicy() {
+	return {
+		retryLimit: int('LW_RUN_RETRY_LIMIT', 4),
+		retryDelay: int('LW_RUN_RETRY_DELAY_SECONDS', 1),
+		retryBackoff: false,
+		expireInSeconds: int('LW_RUN_EXPIRE_SECONDS', 20)
+	};
+}
+
+let started: Promise<PgBoss> | undefined;
+let role: 'producer' | 'worker' = 'producer';
+
+/**
+ * The process's pg-boss instance, started once. A producer (the web app, scripts) does no maintenance;
+ * the worker supervises (expires jobs of crashed workers, archives) every few seconds.
+ */
+export function getBoss(as: 'producer' | 'worker' = 'producer'): Promise<PgBoss> {
+	if (started) return started;
+	role = as;
+	started = (async () => {
+		const boss = new PgBoss({
+			connectionString: config.databaseUrl,
+			schema: BOSS_SCHEMA,
+			max: as === 'worker' ? 4 : 2,
+			supervise: as === 'worker',
+			schedule: false,
+			maintenanceIntervalSeconds: int('LW_QUEUE_MAINTENANCE_SECONDS', 2)
+		});
+		boss.on('error', (e) => console.error(`[queue:${role}]`, (e as Error)?.message ?? e));
+		await boss.start();
+		const policy = runJobPolicy();
+		const existing = await boss.getQueue(RUN_QUEUE);
+		if (!existing) {
+			try {
+				await boss.createQueue(RUN_QUEUE, { name: RUN_QUEUE, ...policy });
+			} catch (e) {
+				// Another process created it at the same moment.
+				if (!(await boss.getQueue(RUN_QUEUE))) throw e;
+			}
+		} else if (
+			existing.expireInSeconds !== policy.expireInSeconds ||
+			existing.retryLimit !== policy.retryLimit
+		) {
+			await boss.updateQueue(RUN_QUEUE, { name: RUN_QUEUE, ...policy });
+		}
+		return boss;
+	})();
+	started.catch(() => (started = undefined));
+	return started;
+}
+
+export async function stopBoss(): Promise<void> {
+	const s = started;
+	started = undefined;
+	if (s) await (await s).stop({ graceful: true, wait: true, timeout: 5_000 });
+}
+
+/**
+ * pg-boss runs its SQL through this when given `{ db }`: the statements then run on the caller's Knex
+ * transaction, so a job exists exactly when the change that queued it commits.
+ */
+export function knexExecutor(trx: Db): PgBoss.Db {
+	return {
+		async executeSql(text: string, values: unknown[] = []) {
+			const bindings: unknown[] = [];
+			const sql = text.replace(/\?/g, '\\?').replace(/\$(\d+)/g, (_m, n: string) => {
+				const v = values[Number(n) - 1];
+				bindings.push(v === undefined ? null : v);
+				return '?';
+			});
+			const r = await trx.raw(sql, bindings as never[]);
+			return { rows: (r as { rows: unknown[] }).rows };
+		}
+	};
+}
+
+/** Queue one job per analysis run id, in the caller's transaction. */
+export async function sendRunJobs(trx: Db, runIds: number[]): Promise<void> {
+	if (runIds.length === 0) return;
+	const boss = await getBoss();
+	const policy = runJobPolicy();
+	for (let i = 0; i < runIds.length; i += 1000) {
+		const jobs = runIds.slice(i, i + 1000).map((runId) => ({
+			name: RUN_QUEUE,
+			data: { runId },
+			retryLimit: policy.retryLimit,
+			retryDelay: policy.retryDelay,
+			expireInSeconds: policy.expireInSeconds
+		}));
+		await boss.insert(jobs, { db: knexExecutor(trx) });
+	}
+}
