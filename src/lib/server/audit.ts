@@ -58,11 +58,13 @@ export interface StoredEvent {
 
 /** What the hash covers: everything but seq and the hash itself. */
 export function eventHash(prevHash: string, e: Omit<StoredEvent, 'seq' | 'hash' | 'prev_hash'>): string {
+	// bigint columns may come back as strings depending on the driver's type parsers: normalise.
+	const id = (v: unknown) => (v === null || v === undefined ? null : Number(v));
 	const content = canonical({
 		at: new Date(e.at).toISOString(),
-		project_id: e.project_id ?? null,
-		actor_user_id: e.actor_user_id ?? null,
-		actor_token_id: e.actor_token_id ?? null,
+		project_id: id(e.project_id),
+		actor_user_id: id(e.actor_user_id),
+		actor_token_id: id(e.actor_token_id),
 		actor_label: e.actor_label,
 		action: e.action,
 		subject_type: e.subject_type,

@@ -5,7 +5,9 @@ import { env } from '$env/dynamic/private';
 import type { ProjectRow, UserRow } from './identity/repo';
 import type { Role } from './identity/roles';
 import { signInForm } from './identity/schema';
-import { activeUser, checkCredentials, projectByKey, roleIn } from './identity/service';
+import { activeUser, checkCredentials, consumePrecheck, projectByKey, roleIn } from './identity/service';
+
+export const PRECHECK_HEADER = 'x-loopwarden-precheck';
 
 // Auth.js issues and verifies the session (a signed, encrypted JWT cookie). The JWT only carries
 // the user id: the account and its project roles are read from the database on every request,
@@ -19,6 +21,13 @@ export const { handle: authHandle, signIn, signOut } = SvelteKitAuth({
 		Credentials({
 			credentials: { email: {}, password: {} },
 			async authorize(raw, request) {
+				// Our sign-in form checked (and recorded) the attempt already.
+				const checkedId = consumePrecheck(request.headers.get(PRECHECK_HEADER));
+				if (checkedId) {
+					const u = await activeUser(checkedId);
+					return u ? { id: String(u.id), email: u.email, name: u.display_name } : null;
+				}
+				// Anyone posting to the Auth.js endpoint directly gets the same checks and rate limit.
 				const parsed = signInForm.safeParse(raw);
 				if (!parsed.success) return null;
 				try {
@@ -71,7 +80,7 @@ export function requireUser(event: RequestEvent): UserRow {
 /** Site administrators only. */
 export function requireAdmin(event: RequestEvent): UserRow {
 	const user = requireUser(event);
-	if (!user.site_admin) error(403, { message: 'Only site administrators may do this.' });
+	if (!user.site_admin || event.locals.apiToken) error(403, { message: 'Only site administrators may do this.' });
 	return user;
 }
 
@@ -100,11 +109,12 @@ export async function requireRole(
 		error(403, { message: `This API token is scoped to another project, not ${project.key}.` });
 	}
 	let role: Role | 'admin' | undefined;
-	if (token) role = token.role;
+	// A token acts with its own role, and only while its owner is still a member (or an admin).
+	if (token) role = user.site_admin || (await roleIn(user.id, project.id)) ? token.role : undefined;
 	else if (user.site_admin) role = (await roleIn(user.id, project.id)) ?? 'admin';
 	else role = await roleIn(user.id, project.id);
 	if (!role) error(403, { message: `You are not a member of project ${project.key}.` });
-	const allowed = role === 'admin' || user.site_admin || !roles || roles.includes(role);
+	const allowed = role === 'admin' || (user.site_admin && !token) || !roles || roles.includes(role);
 	if (!allowed) {
 		error(403, {
 			message: `Your role in ${project.key} (${role}) does not allow this; it needs ${roles!.join(' or ')}.`

@@ -1,12 +1,21 @@
 import { fail } from '@sveltejs/kit';
 import { z } from 'zod';
+import { actorOf } from '$lib/server/audit';
 import { requireUser } from '$lib/server/auth';
-import { ServiceError, fieldErrors } from '$lib/server/errors';
-import { displayName, password } from '$lib/server/identity/schema';
+import { ServiceError, fieldErrors, type FieldErrors } from '$lib/server/errors';
+import { createToken, listTokens, revokeToken } from '$lib/server/identity/api-tokens';
+import { ROLES } from '$lib/server/identity/roles';
+import { displayName, password, projectKey } from '$lib/server/identity/schema';
 import { changePassword, listProjectsFor, renameUser } from '$lib/server/identity/service';
 import type { Actions, PageServerLoad } from './$types';
 
 const renameForm = z.object({ displayName });
+const tokenForm = z.object({
+	projectKey,
+	role: z.enum(ROLES, { error: 'Choose a role.' }),
+	label: z.string().trim().min(1, 'Name the token (what uses it).').max(80, 'Use at most 80 characters.')
+});
+const revokeForm = z.object({ id: z.coerce.number({ error: 'Missing token.' }).int().positive('Missing token.') });
 const passwordForm = z
 	.object({ current: z.string().min(1, 'Enter your current password.').max(200), password, confirm: z.string() })
 	.refine((v) => v.password === v.confirm, { path: ['confirm'], message: 'The two passwords differ.' });
@@ -16,7 +25,9 @@ export const load = (async (event) => {
 	const projects = await listProjectsFor(user);
 	return {
 		account: { email: user.email, name: user.display_name, admin: user.site_admin },
-		memberships: projects.map((p) => ({ key: p.key, name: p.name, role: p.role }))
+		memberships: projects.map((p) => ({ key: p.key, name: p.name, role: p.role })),
+		tokens: await listTokens(user),
+		roles: [...ROLES]
 	};
 }) satisfies PageServerLoad;
 
@@ -25,7 +36,7 @@ export const actions = {
 		const user = requireUser(event);
 		const parsed = renameForm.safeParse(Object.fromEntries(await event.request.formData()));
 		if (!parsed.success) return fail(400, { action: 'rename', errors: fieldErrors(parsed.error) });
-		await renameUser(user, parsed.data.displayName);
+		await renameUser(actorOf(event.locals), user, parsed.data.displayName);
 		return { action: 'rename', ok: true };
 	},
 	password: async (event) => {
@@ -33,11 +44,37 @@ export const actions = {
 		const parsed = passwordForm.safeParse(Object.fromEntries(await event.request.formData()));
 		if (!parsed.success) return fail(400, { action: 'password', errors: fieldErrors(parsed.error) });
 		try {
-			await changePassword(user, parsed.data.current, parsed.data.password);
+			await changePassword(actorOf(event.locals), user, parsed.data.current, parsed.data.password);
 		} catch (e) {
 			if (e instanceof ServiceError) return fail(e.status, { action: 'password', errors: e.fields });
 			throw e;
 		}
 		return { action: 'password', ok: true };
+	},
+	createToken: async (event) => {
+		const user = requireUser(event);
+		const form = Object.fromEntries(await event.request.formData());
+		const parsed = tokenForm.safeParse(form);
+		if (!parsed.success) return fail(400, { action: 'createToken', errors: fieldErrors(parsed.error) });
+		try {
+			const t = await createToken(actorOf(event.locals), user, parsed.data);
+			// Shown once: only its hash is stored.
+			return { action: 'createToken', token: t.token, label: parsed.data.label };
+		} catch (e) {
+			if (e instanceof ServiceError) return fail(e.status, { action: 'createToken', errors: { ...e.fields, _: e.message } as FieldErrors });
+			throw e;
+		}
+	},
+	revokeToken: async (event) => {
+		const user = requireUser(event);
+		const parsed = revokeForm.safeParse(Object.fromEntries(await event.request.formData()));
+		if (!parsed.success) return fail(400, { action: 'revokeToken', errors: fieldErrors(parsed.error) });
+		try {
+			await revokeToken(actorOf(event.locals), user, parsed.data.id);
+		} catch (e) {
+			if (e instanceof ServiceError) return fail(e.status, { action: 'revokeToken', errors: { ...e.fields, _: e.message } as FieldErrors });
+			throw e;
+		}
+		return { action: 'revokeToken', ok: true };
 	}
 } satisfies Actions;

@@ -1,4 +1,5 @@
 import { fail } from '@sveltejs/kit';
+import { actorOf } from '$lib/server/audit';
 import { requireAdmin } from '$lib/server/auth';
 import { ServiceError, fieldErrors, type FieldErrors } from '$lib/server/errors';
 import { createProjectForm, userFlagsForm } from '$lib/server/identity/schema';
@@ -32,7 +33,7 @@ export const actions = {
 		const parsed = createProjectForm.safeParse(form);
 		if (!parsed.success) return fail(400, { action: 'createProject', values, errors: fieldErrors(parsed.error) });
 		try {
-			const p = await createProject(parsed.data);
+			const p = await createProject(actorOf(event.locals), parsed.data);
 			return { action: 'createProject', created: p.key };
 		} catch (e) {
 			if (e instanceof ServiceError) return fail(e.status, { action: 'createProject', values, errors: e.fields });
@@ -40,12 +41,12 @@ export const actions = {
 		}
 	},
 	setDisabled: async (event) => {
-		const admin = requireAdmin(event);
+		requireAdmin(event);
 		const form = Object.fromEntries(await event.request.formData());
 		const parsed = userFlagsForm.safeParse(form);
 		if (!parsed.success) return fail(400, { action: 'setDisabled', errors: fieldErrors(parsed.error) });
 		try {
-			await setUserDisabled(admin, parsed.data.userId, parsed.data.disabled);
+			await setUserDisabled(actorOf(event.locals), parsed.data.userId, parsed.data.disabled);
 		} catch (e) {
 			if (e instanceof ServiceError) return fail(e.status, { action: 'setDisabled', errors: { ...e.fields, _: e.message } as FieldErrors });
 			throw e;

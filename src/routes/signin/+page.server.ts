@@ -1,8 +1,8 @@
 import { fail, redirect } from '@sveltejs/kit';
-import { signIn } from '$lib/server/auth';
+import { PRECHECK_HEADER, signIn } from '$lib/server/auth';
 import { ServiceError, fieldErrors, type FieldErrors } from '$lib/server/errors';
 import { signInForm } from '$lib/server/identity/schema';
-import { checkCredentials } from '$lib/server/identity/service';
+import { checkCredentials, precheckNonce } from '$lib/server/identity/service';
 import type { Actions, PageServerLoad } from './$types';
 
 /** Only same-site paths; anything else goes home. */
@@ -24,8 +24,9 @@ export const actions = {
 		const parsed = signInForm.safeParse(form);
 		if (!parsed.success) return fail(400, { values, errors: fieldErrors(parsed.error), message: null });
 		// Check first, so that the rate limit answers 429 and a refusal keeps the user on this form.
+		let userId: number;
 		try {
-			await checkCredentials(parsed.data.email, parsed.data.password, event.getClientAddress());
+			userId = (await checkCredentials(parsed.data.email, parsed.data.password, event.getClientAddress())).id;
 		} catch (e) {
 			if (e instanceof ServiceError) return fail(e.status, { values, errors: {} as FieldErrors, message: e.message });
 			throw e;
@@ -40,6 +41,7 @@ export const actions = {
 		const headers = new Headers(event.request.headers);
 		headers.delete('content-length');
 		headers.set('content-type', 'application/x-www-form-urlencoded');
+		headers.set(PRECHECK_HEADER, precheckNonce(userId));
 		const request = new Request(event.request.url, { method: 'POST', headers, body });
 		await signIn({ ...event, request });
 		return fail(500, { values, errors: {} as FieldErrors, message: 'Sign-in did not complete.' });

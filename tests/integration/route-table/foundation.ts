@@ -31,3 +31,15 @@ export const cases: RouteCase[] = [
 	{ route: '/p/[key=projectKey]', method: 'GET', path: '/p/{key}', expect: membersOnly() },
 	{ route: '/api/v1/health', method: 'GET', path: '/api/v1/health', expect: everyone('ok') }
 ];
+
+cases.push(
+	{ route: '/account', method: 'ACTION createToken', path: '/account', body: { projectKey: '', role: 'x', label: '' }, expect: signedIn('signin') },
+	{ route: '/account', method: 'ACTION revokeToken', path: '/account', body: { id: 'none' }, expect: signedIn('signin') }
+);
+
+cases.push(
+	{ route: '/admin/audit', method: 'GET', path: '/admin/audit', expect: adminOnly() },
+	{ route: '/admin/audit', method: 'ACTION verify', path: '/admin/audit', expect: adminOnly() }
+);
+
+cases.push({ route: '/api/v1/projects/[key=projectKey]', method: 'GET', path: '/api/v1/projects/{key}', expect: membersOnly(401) });

@@ -1,3 +1,5 @@
+import { recordEvent, type Actor } from '../audit';
+import { randomUUID } from 'node:crypto';
 import { config } from '../config';
 import { db } from '../db';
 import { ServiceError } from '../errors';
@@ -27,27 +29,57 @@ export async function checkCredentials(email: string, password: string, ip: stri
 	const user = await users.byEmail(db(), email);
 	const ok = await verifyPassword(user?.password_hash ?? (await dummyHash()), password);
 	const good = !!user && ok && !user.disabled;
-	await signInAttempts.record(db(), email, good, ip);
+	await db().transaction(async (trx) => {
+		await signInAttempts.record(trx, email, good, ip);
+		await recordEvent(
+			trx,
+			{ userId: good ? user.id : null, label: good ? user.email : `unverified ${email}` },
+			{ action: good ? 'auth.sign-in' : 'auth.sign-in-failed', subjectType: 'user', subjectId: user?.id ?? null, after: { email, ip } }
+		);
+	});
 	if (!good) throw new ServiceError(400, SIGN_IN_REFUSED);
 	return user;
 }
 
 /** The user behind a session, or undefined when missing or disabled (takes effect at once). */
+// Sign-ins checked by our own form action, handed to Auth.js's authorize() without a second check.
+// Process-local and single-use; an outside caller of the Auth.js endpoint cannot know a nonce.
+const prechecked = new Map<string, { userId: number; expires: number }>();
+
+export function precheckNonce(userId: number): string {
+	const nonce = randomUUID();
+	const now = Date.now();
+	for (const [k, v] of prechecked) if (v.expires < now) prechecked.delete(k);
+	prechecked.set(nonce, { userId, expires: now + 30_000 });
+	return nonce;
+}
+
+export function consumePrecheck(nonce: string | null): number | undefined {
+	if (!nonce) return undefined;
+	const hit = prechecked.get(nonce);
+	prechecked.delete(nonce);
+	return hit && hit.expires > Date.now() ? hit.userId : undefined;
+}
+
 export async function activeUser(id: number): Promise<UserRow | undefined> {
 	const u = await users.byId(db(), id);
 	return u && !u.disabled ? u : undefined;
 }
 
-export async function createProject(input: { key: string; name: string; description: string }) {
+export async function createProject(actor: Actor, input: { key: string; name: string; description: string }) {
 	if (await projects.byKey(db(), input.key)) {
 		throw new ServiceError(409, `A project with the key ${input.key} exists already.`, {
 			key: 'This key is taken.'
 		});
 	}
-	return projects.insert(db(), input);
+	return db().transaction(async (trx) => {
+		const p = await projects.insert(trx, input);
+		await recordEvent(trx, actor, { projectId: p.id, action: 'project.create', subjectType: 'project', subjectId: p.id, after: input });
+		return p;
+	});
 }
 
-export async function invite(input: {
+export async function invite(actor: Actor, input: {
 	projectId: number;
 	projectName: string;
 	email: string;
@@ -75,6 +107,13 @@ export async function invite(input: {
 					? `Open this link and sign in with your existing account to join:\n${link}\n`
 					: `Open this link to choose your password:\n${link}\n`) +
 				`\nThe link works once and expires in ${INVITATION_DAYS} days.\n`
+		});
+		await recordEvent(trx, actor, {
+			projectId: input.projectId,
+			action: 'membership.invite',
+			subjectType: 'invitation',
+			subjectId: input.email,
+			after: { email: input.email, role: input.role }
 		});
 	});
 	kickMail();
@@ -110,6 +149,13 @@ export async function acceptInvitation(
 			});
 		}
 		await memberships.upsert(trx, user.id, inv.project_id, inv.role);
+		await recordEvent(trx, { userId: user.id, label: user.email }, {
+			projectId: inv.project_id,
+			action: 'membership.accept-invitation',
+			subjectType: 'membership',
+			subjectId: `${inv.project_id}:${user.id}`,
+			after: { role: inv.role }
+		});
 		return { projectKey: inv.project_key, email: inv.email };
 	});
 }
@@ -145,26 +191,55 @@ export async function resetPassword(token: string, password: string): Promise<vo
 		if (!row) throw new ServiceError(404, 'This reset link is not valid any more (used or expired).');
 		if ((await passwordResets.markUsed(trx, row.id)) === 0) throw new ServiceError(409, 'This link was just used.');
 		await users.update(trx, row.user_id, { password_hash: await hashPassword(password) });
+		await recordEvent(trx, { userId: row.user_id, label: `user ${row.user_id} (reset link)` }, {
+			action: 'user.password-reset',
+			subjectType: 'user',
+			subjectId: row.user_id
+		});
 	});
 }
 
-export async function setMembership(projectId: number, userId: number, role: Role) {
-	const u = await users.byId(db(), userId);
-	if (!u) throw new ServiceError(404, 'No such user.', { userId: 'No such user.' });
-	await memberships.upsert(db(), userId, projectId, role);
+export async function setMembership(actor: Actor, projectId: number, userId: number, role: Role) {
+	await db().transaction(async (trx) => {
+		const u = await users.byId(trx, userId);
+		if (!u) throw new ServiceError(404, 'No such user.', { userId: 'No such user.' });
+		const before = await memberships.role(trx, userId, projectId);
+		await memberships.upsert(trx, userId, projectId, role);
+		await recordEvent(trx, actor, {
+			projectId,
+			action: 'membership.set-role',
+			subjectType: 'membership',
+			subjectId: `${projectId}:${userId}`,
+			before: before ? { role: before } : null,
+			after: { role, email: u.email }
+		});
+	});
 }
 
-export async function removeMembership(projectId: number, userId: number) {
-	const n = await memberships.remove(db(), userId, projectId);
-	if (n === 0) throw new ServiceError(404, 'That person is not a member of this project.', { userId: 'Not a member.' });
+export async function removeMembership(actor: Actor, projectId: number, userId: number) {
+	await db().transaction(async (trx) => {
+		const before = await memberships.role(trx, userId, projectId);
+		const n = await memberships.remove(trx, userId, projectId);
+		if (n === 0) throw new ServiceError(404, 'That person is not a member of this project.', { userId: 'Not a member.' });
+		await recordEvent(trx, actor, {
+			projectId,
+			action: 'membership.remove',
+			subjectType: 'membership',
+			subjectId: `${projectId}:${userId}`,
+			before: { role: before }
+		});
+	});
 }
 
-export async function setUserDisabled(actor: UserRow, userId: number, disabled: boolean) {
-	if (actor.id === userId && disabled) {
+export async function setUserDisabled(actor: Actor, userId: number, disabled: boolean) {
+	if (actor.userId === userId && disabled) {
 		throw new ServiceError(400, 'You cannot disable your own account.', { userId: 'That is you.' });
 	}
-	const n = await users.update(db(), userId, { disabled });
-	if (n === 0) throw new ServiceError(404, 'No such user.', { userId: 'No such user.' });
+	await db().transaction(async (trx) => {
+		const n = await users.update(trx, userId, { disabled });
+		if (n === 0) throw new ServiceError(404, 'No such user.', { userId: 'No such user.' });
+		await recordEvent(trx, actor, { action: disabled ? 'user.disable' : 'user.enable', subjectType: 'user', subjectId: userId });
+	});
 }
 
 export const listProjectsFor = (user: UserRow) =>
@@ -179,13 +254,26 @@ export const projectByKey = (key: string) => projects.byKey(db(), key);
 export const roleIn = (userId: number, projectId: number) => memberships.role(db(), userId, projectId);
 export const accountExists = async (email: string) => !!(await users.byEmail(db(), email));
 
-export async function changePassword(user: UserRow, current: string, next: string): Promise<void> {
+export async function changePassword(actor: Actor, user: UserRow, current: string, next: string): Promise<void> {
 	if (!(await verifyPassword(user.password_hash, current))) {
 		throw new ServiceError(400, 'The current password is not right.', { current: 'Not right.' });
 	}
-	await users.update(db(), user.id, { password_hash: await hashPassword(next) });
+	const hash = await hashPassword(next);
+	await db().transaction(async (trx) => {
+		await users.update(trx, user.id, { password_hash: hash });
+		await recordEvent(trx, actor, { action: 'user.password-change', subjectType: 'user', subjectId: user.id });
+	});
 }
 
-export async function renameUser(user: UserRow, displayName: string): Promise<void> {
-	await users.update(db(), user.id, { display_name: displayName });
+export async function renameUser(actor: Actor, user: UserRow, displayName: string): Promise<void> {
+	await db().transaction(async (trx) => {
+		await users.update(trx, user.id, { display_name: displayName });
+		await recordEvent(trx, actor, {
+			action: 'user.rename',
+			subjectType: 'user',
+			subjectId: user.id,
+			before: { name: user.display_name },
+			after: { name: displayName }
+		});
+	});
 }

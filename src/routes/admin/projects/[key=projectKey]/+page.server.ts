@@ -1,4 +1,5 @@
 import { error, fail } from '@sveltejs/kit';
+import { actorOf } from '$lib/server/audit';
 import { requireAdmin } from '$lib/server/auth';
 import { ServiceError, fieldErrors, type FieldErrors } from '$lib/server/errors';
 import { ROLE_LABELS, ROLES } from '$lib/server/identity/roles';
@@ -39,7 +40,7 @@ export const actions = {
 		const values = { email: String(form.email ?? ''), role: String(form.role ?? '') };
 		const parsed = inviteForm.safeParse(form);
 		if (!parsed.success) return fail(400, { action: 'invite', values, errors: fieldErrors(parsed.error) });
-		const r = await invite({ projectId: p.id, projectName: p.name, email: parsed.data.email, role: parsed.data.role, invitedBy: admin });
+		const r = await invite(actorOf(event.locals), { projectId: p.id, projectName: p.name, email: parsed.data.email, role: parsed.data.role, invitedBy: admin });
 		return { action: 'invite', invited: parsed.data.email, existingUser: r.existingUser };
 	},
 	setRole: async (event) => {
@@ -48,7 +49,7 @@ export const actions = {
 		const parsed = membershipForm.safeParse(Object.fromEntries(await event.request.formData()));
 		if (!parsed.success) return fail(400, { action: 'setRole', errors: fieldErrors(parsed.error) });
 		try {
-			await setMembership(p.id, parsed.data.userId, parsed.data.role);
+			await setMembership(actorOf(event.locals), p.id, parsed.data.userId, parsed.data.role);
 		} catch (e) {
 			if (e instanceof ServiceError) return fail(e.status, { action: 'setRole', errors: { ...e.fields, _: e.message } as FieldErrors });
 			throw e;
@@ -61,7 +62,7 @@ export const actions = {
 		const parsed = removeMembershipForm.safeParse(Object.fromEntries(await event.request.formData()));
 		if (!parsed.success) return fail(400, { action: 'remove', errors: fieldErrors(parsed.error) });
 		try {
-			await removeMembership(p.id, parsed.data.userId);
+			await removeMembership(actorOf(event.locals), p.id, parsed.data.userId);
 		} catch (e) {
 			if (e instanceof ServiceError) return fail(e.status, { action: 'remove', errors: { ...e.fields, _: e.message } as FieldErrors });
 			throw e;
