@@ -24,8 +24,9 @@ const identify: Handle = async ({ event, resolve }) => {
 			event.locals.user = await userFromSession(event);
 		}
 	} catch (e) {
-		if (isDatabaseUnavailable(e)) return unavailable(event.url.pathname);
-		throw e;
+		if (!isDatabaseUnavailable(e)) throw e;
+		// The health endpoint still answers (anonymously) and names the failing check.
+		if (event.url.pathname !== '/api/v1/health') return unavailable(event.url.pathname);
 	}
 	const response = await resolve(event);
 	response.headers.set('X-Content-Type-Options', 'nosniff');

@@ -1,0 +1,99 @@
+import { spawn, spawnSync } from 'node:child_process';
+import { closeSync, openSync, readFileSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { closeTestDb, createUser, testDb } from '../factories';
+import { env } from '../helpers/env';
+import { Client, signedIn } from '../helpers/http';
+import { expectMailTo } from '../helpers/mail';
+
+// Faults while the app serves: the database restarted, the mail relay down. Each dependency comes
+// back without restarting the app, and nothing is lost.
+
+afterAll(closeTestDb);
+
+const db = (cmd: string) => spawnSync('bash', ['scripts/db.sh', cmd], { encoding: 'utf8', env: process.env, timeout: 120_000 });
+const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
+
+describe('PostgreSQL restarted while the app serves', () => {
+	it('answers 503 (JSON for the API) during the outage and works again afterwards', async () => {
+		const u = await createUser();
+		const c = await signedIn(u.email, u.password);
+		await closeTestDb();
+		expect((await c.get('/account')).status).toBe(200);
+
+		expect(db('stop').status).toBe(0);
+		try {
+			const health = await c.get('/api/v1/health');
+			expect(health.status).toBe(503);
+			const body = await health.json();
+			expect(body.failing).toContain('database');
+			const page = await c.get('/account', { accept: 'text/html' });
+			expect(page.status).toBe(503);
+			expect(await page.text()).toMatch(/database is unavailable/i);
+			const api = await c.get('/api/v1/projects/NOPE', { accept: 'application/json' });
+			expect(api.status).toBe(503);
+			expect((await api.json()).error.message).toMatch(/database is unavailable/i);
+		} finally {
+			expect(db('start').status).toBe(0);
+		}
+		// The pool reconnects by itself.
+		let status = 0;
+		for (let i = 0; i < 50 && status !== 200; i++) {
+			status = (await c.get('/account')).status;
+			if (status !== 200) await sleep(200);
+		}
+		expect(status).toBe(200);
+		expect((await c.get('/api/v1/health')).status).toBe(200);
+	}, 120_000);
+});
+
+describe('mail relay down', () => {
+	it('keeps the mail in the outbox, retries, and delivers once the relay is back', async () => {
+		const pidFile = join(env.testData, 'fakes.pid');
+		const pid = Number(readFileSync(pidFile, 'utf8'));
+		process.kill(-pid, 'SIGTERM');
+		for (let i = 0; i < 50; i++) {
+			try {
+				process.kill(pid, 0);
+				await sleep(100);
+			} catch {
+				break;
+			}
+		}
+		let restarted = false;
+		try {
+			const u = await createUser();
+			const r = await new Client().action('/forgot', { email: u.email });
+			expect(r.type).toBe('success');
+			// The first delivery attempt fails and is recorded; the message stays queued.
+			let row: { attempts: number; sent_at: Date | null; last_error: string | null } | undefined;
+			for (let i = 0; i < 60; i++) {
+				row = await testDb()('mail_outbox').where({ to_address: u.email }).first();
+				if (row && row.attempts > 0) break;
+				await sleep(250);
+			}
+			expect(row?.sent_at).toBeNull();
+			expect(row?.attempts).toBeGreaterThan(0);
+			expect(row?.last_error).toBeTruthy();
+
+			// Bring the stand-ins back (same ports and folders), as scripts/test.sh started them.
+			const log = openSync(join(env.testData, 'fakes.log'), 'a');
+			const child = spawn('node_modules/.bin/tsx', ['fakes/run.ts'], { detached: true, stdio: ['ignore', log, log], env: process.env });
+			closeSync(log);
+			writeFileSync(pidFile, String(child.pid));
+			child.unref();
+			restarted = true;
+			const mail = await expectMailTo(u.email, { subject: /Reset/, timeoutMs: 40_000 });
+			expect(mail.text).toContain('/reset/');
+			const sent = await testDb()('mail_outbox').where({ to_address: u.email }).first();
+			expect(sent.sent_at).not.toBeNull();
+		} finally {
+			if (!restarted) {
+				const child = spawn('node_modules/.bin/tsx', ['fakes/run.ts'], { detached: true, stdio: 'ignore', env: process.env });
+				writeFileSync(pidFile, String(child.pid));
+				child.unref();
+			}
+		}
+	}, 90_000);
+});
