@@ -7,6 +7,8 @@ import type { Db } from '../db';
 
 export const RUN_QUEUE = 'analysis-run';
 export const BOSS_SCHEMA = 'pgboss';
+/** NOTIFY channel: wakes idle workers when runs are queued (delivered when the queuing transaction commits). */
+export const RUNS_CHANNEL = 'lw_analysis_runs';
 
 function int(name: string, fallback: number): number {
 	const n = Number(process.env[name]);
@@ -105,4 +107,5 @@ export async function sendRunJobs(trx: Db, runIds: number[]): Promise<void> {
 		}));
 		await boss.insert(jobs, { db: knexExecutor(trx) });
 	}
+	await trx.raw('select pg_notify(?, ?)', [RUNS_CHANNEL, String(runIds.length)]);
 }

@@ -1,0 +1,151 @@
+import { CAUTION_TEXT } from '../../caution';
+import type { Db } from '../db';
+import { config } from '../config';
+import { enqueueMail } from '../mail';
+
+// Verdict-change mail. A change (one publish, one specification edit...) queues many runs; when the last
+// of them finishes, every requirement whose outcome moved is collected and each person concerned (the
+// requirement's owner, the model's owner) gets one mail listing all of them.
+
+type Outcome = 'pass' | 'fail' | 'inconclusive' | 'error';
+
+export const OUTCOME_WORDS: Record<Outcome, string> = {
+	pass: 'verified by analysis',
+	fail: 'failing',
+	inconclusive: 'inconclusive',
+	error: 'analysis error'
+};
+
+// Two-key advisory lock namespace (the audit chain uses the one-key form).
+const NOTICE_LOCK = 7_431_003;
+
+interface FinishedRun {
+	id: number;
+	trigger_ref: string | null;
+}
+
+function outcomeOf(r: { status: string; verdict: string | null }): Outcome | null {
+	if (r.status === 'error') return 'error';
+	if (r.status === 'done' && r.verdict) return r.verdict as Outcome;
+	return null;
+}
+
+/**
+ * Call in the transaction that finished a run. Returns how many mails were queued (call kickMail()
+ * after the commit when > 0).
+ */
+export async function afterRunFinished(trx: Db, run: FinishedRun): Promise<number> {
+	const ref = run.trigger_ref ?? `run:${run.id}`;
+	// Serialise the finishers of one change: the last one sees every other run committed.
+	await trx.raw('select pg_advisory_xact_lock(?, hashtext(?))', [NOTICE_LOCK, ref]);
+	if (run.trigger_ref) {
+		const open = await trx('analysis_runs')
+			.where({ trigger_ref: run.trigger_ref })
+			.whereIn('status', ['queued', 'running'])
+			.count<{ count: string | number }[]>('* as count');
+		if (Number(open[0].count) > 0) return 0;
+	}
+	const claimed = await trx.raw(
+		`insert into analysis_notices (trigger_ref, changes, mails) values (?, 0, 0) on conflict do nothing returning trigger_ref`,
+		[ref]
+	);
+	if (claimed.rows.length === 0) return 0;
+
+	const group: {
+		id: number;
+		requirement_id: number;
+		status: string;
+		verdict: string | null;
+		finished_at: Date;
+		worst_point: string | null;
+		identifier: string;
+		title: string;
+		req_owner: number | null;
+		model_owner: number | null;
+		model_name: string;
+		model_version: number;
+		project_key: string;
+		trigger: string;
+	}[] = (
+		await trx.raw(
+			`select ar.id, ar.requirement_id, ar.status, ar.verdict, ar.finished_at, ar.worst_point, ar.trigger,
+				r.identifier, rr.title, rr.owner_id as req_owner, m.owner_id as model_owner, m.name as model_name,
+				mv.version as model_version, p.key as project_key
+			from analysis_runs ar
+			join requirements r on r.id = ar.requirement_id
+			join requirement_revisions rr on rr.requirement_id = r.id and rr.revision = r.current_revision
+			join model_versions mv on mv.id = ar.model_version_id
+			join models m on m.id = mv.model_id
+			join projects p on p.id = ar.project_id
+			where ${run.trigger_ref ? 'ar.trigger_ref = ?' : 'ar.id = ?'}
+			order by r.number`,
+			[run.trigger_ref ?? run.id]
+		)
+	).rows;
+	if (group.length === 0) return 0;
+	const ids = group.map((g) => Number(g.id));
+
+	const changes: { run: (typeof group)[number]; from: Outcome | null; to: Outcome }[] = [];
+	for (const g of group) {
+		const to = outcomeOf(g);
+		if (!to) continue;
+		const prev = await trx('analysis_runs')
+			.where({ requirement_id: g.requirement_id })
+			.whereIn('status', ['done', 'error'])
+			.whereNotIn('id', ids)
+			.where('finished_at', '<=', g.finished_at)
+			.orderBy([
+				{ column: 'finished_at', order: 'desc' },
+				{ column: 'id', order: 'desc' }
+			])
+			.first('status', 'verdict');
+		const from = prev ? outcomeOf(prev) : null;
+		// A first verdict counts as a change unless it is a pass (nothing to act on).
+		if (from === to || (from === null && to === 'pass')) continue;
+		changes.push({ run: g, from, to });
+	}
+
+	const byPerson = new Map<number, typeof changes>();
+	for (const c of changes) {
+		for (const uid of new Set([c.run.req_owner, c.run.model_owner])) {
+			if (uid == null) continue;
+			const list = byPerson.get(Number(uid)) ?? [];
+			list.push(c);
+			byPerson.set(Number(uid), list);
+		}
+	}
+	let mails = 0;
+	if (byPerson.size) {
+		const people: { id: number; email: string; display_name: string }[] = await trx('users')
+			.whereIn('id', [...byPerson.keys()])
+			.where({ disabled: false })
+			.select('id', 'email', 'display_name');
+		for (const person of people) {
+			const list = byPerson.get(Number(person.id))!;
+			const first = list[0].run;
+			const subject =
+				list.length === 1
+					? `[${first.project_key}] ${first.identifier} is now ${OUTCOME_WORDS[list[0].to]}`
+					: `[${first.project_key}] ${list.length} verdicts changed after ${first.model_name} v${first.model_version}`;
+			const lines = list.map((c) => {
+				const url = `${config.publicOrigin}/p/${c.run.project_key}/requirements/${c.run.requirement_id}`;
+				return (
+					`- ${c.run.identifier} ${c.run.title}\n` +
+					`  ${c.from ? OUTCOME_WORDS[c.from] : 'not analysed'} -> ${OUTCOME_WORDS[c.to]}` +
+					` (model ${c.run.model_name} v${c.run.model_version}${c.run.worst_point ? `, worst operating point "${c.run.worst_point}"` : ''})\n` +
+					`  ${url}`
+				);
+			});
+			const text =
+				`Hello ${person.display_name},\n\n` +
+				`Re-verification after a change (${first.trigger.replace('-', ' ')}) moved ${list.length === 1 ? 'a verdict' : `${list.length} verdicts`} you are concerned with:\n\n` +
+				lines.join('\n\n') +
+				`\n\nRun details: ${config.publicOrigin}/api/v1/analyses/${first.id}\n\n` +
+				`${CAUTION_TEXT}\n\n-- Loopwarden\n`;
+			await enqueueMail(trx, { to: person.email, subject, text });
+			mails++;
+		}
+	}
+	await trx('analysis_notices').where({ trigger_ref: ref }).update({ changes: changes.length, mails });
+	return mails;
+}
