@@ -68,6 +68,9 @@ node_modules/.bin/vite build --logLevel error >"$TEST_DATA/build.log" 2>&1 || { 
 setsid node "$BUILD_DIR" >"$TEST_DATA/app.log" 2>&1 &
 echo $! >"$TEST_DATA/app.pid"
 wait_port 127.0.0.1 "$PORT" 30 || { cat "$TEST_DATA/app.log"; fail_setup "app server"; }
+# The analysis worker beside the app, as npm start runs it.
+setsid node_modules/.bin/tsx scripts/worker.ts >"$TEST_DATA/worker.log" 2>&1 &
+echo $! >"$TEST_DATA/worker.pid"
 
 static_pass=0
 static_fail=0
