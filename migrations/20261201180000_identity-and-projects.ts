@@ -23,7 +23,9 @@ export async function up(knex: Knex): Promise<void> {
 		t.text('description').notNullable().defaultTo('');
 		t.timestamp('created_at', { useTz: true }).notNullable().defaultTo(knex.fn.now());
 	});
-	await knex.raw(`alter table projects add constraint projects_key_format check (key ~ '^[A-Z][A-Z0-9]{1,9}$')`);
+	await knex.raw(
+		`alter table projects add constraint projects_key_format check (key ~ '^[A-Z][A-Z0-9]{1,9}$')`
+	);
 
 	await knex.schema.createTable('memberships', (t) => {
 		t.bigInteger('user_id').notNullable().references('users.id').onDelete('CASCADE');

@@ -69,7 +69,9 @@ export async function up(knex: Knex): Promise<void> {
 		t.timestamp('removed_at', { useTz: true });
 	});
 	await knex.raw(`alter table requirement_links add constraint rl_not_self check (child_id <> parent_id)`);
-	await knex.raw(`create unique index requirement_links_active on requirement_links (child_id, parent_id) where removed_at is null`);
+	await knex.raw(
+		`create unique index requirement_links_active on requirement_links (child_id, parent_id) where removed_at is null`
+	);
 
 	await knex.schema.createTable('models', (t) => {
 		t.bigIncrements('id').primary();

@@ -56,6 +56,7 @@ export const handleError: HandleServerError = ({ error, event, status, message }
 	if (isDatabaseUnavailable(error)) {
 		return { message: 'The database is unavailable right now. Try again shortly.', errorId };
 	}
-	if (status !== 404) console.error(`[app] ${event.request.method} ${event.url.pathname} (${errorId}):`, error);
+	if (status !== 404)
+		console.error(`[app] ${event.request.method} ${event.url.pathname} (${errorId}):`, error);
 	return { message: status === 404 ? message : 'Unexpected error; it has been logged.', errorId };
 };

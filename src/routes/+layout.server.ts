@@ -7,10 +7,10 @@ import type { LayoutServerLoad } from './$types';
 export const load = (async ({ locals }) => {
 	const user = locals.user;
 	return {
-		user: user
-			? { id: user.id, email: user.email, name: user.display_name, admin: user.site_admin }
-			: null,
-		projects: user ? (await listProjectsFor(user)).map((p) => ({ key: p.key, name: p.name, role: p.role })) : [],
+		user: user ? { id: user.id, email: user.email, name: user.display_name, admin: user.site_admin } : null,
+		projects: user
+			? (await listProjectsFor(user)).map((p) => ({ key: p.key, name: p.name, role: p.role }))
+			: [],
 		demoMode: config.demoMode
 	};
 }) satisfies LayoutServerLoad;

@@ -5,5 +5,7 @@ import type { PageServerLoad } from './$types';
 export const load = (async ({ locals }) => {
 	if (!locals.user) return { projects: null };
 	const projects = await listProjectsFor(locals.user);
-	return { projects: projects.map((p) => ({ key: p.key, name: p.name, description: p.description, role: p.role })) };
+	return {
+		projects: projects.map((p) => ({ key: p.key, name: p.name, description: p.description, role: p.role }))
+	};
 }) satisfies PageServerLoad;

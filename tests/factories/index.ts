@@ -22,7 +22,9 @@ export function unique(prefix = 'x'): string {
 export const PASSWORD = 'correct-horse-battery';
 let cachedHash: Promise<string> | undefined;
 
-export async function createUser(opts: { email?: string; name?: string; admin?: boolean; disabled?: boolean } = {}) {
+export async function createUser(
+	opts: { email?: string; name?: string; admin?: boolean; disabled?: boolean } = {}
+) {
 	cachedHash ??= hashPassword(PASSWORD);
 	const email = opts.email ?? `${unique('u')}@example.test`;
 	const [u] = await testDb()('users')
@@ -34,11 +36,23 @@ export async function createUser(opts: { email?: string; name?: string; admin?: 
 			disabled: opts.disabled ?? false
 		})
 		.returning('*');
-	return { ...u, password: PASSWORD } as { id: number; email: string; password: string; display_name: string };
+	return { ...u, password: PASSWORD } as {
+		id: number;
+		email: string;
+		password: string;
+		display_name: string;
+	};
 }
 
 export async function createProject(opts: { key?: string; name?: string } = {}) {
-	const key = opts.key ?? 'T' + Math.random().toString(36).slice(2, 8).toUpperCase().replace(/[^A-Z0-9]/g, 'Q');
+	const key =
+		opts.key ??
+		'T' +
+			Math.random()
+				.toString(36)
+				.slice(2, 8)
+				.toUpperCase()
+				.replace(/[^A-Z0-9]/g, 'Q');
 	const [p] = await testDb()('projects')
 		.insert({ key, name: opts.name ?? `Project ${key}`, description: 'test project' })
 		.returning('*');

@@ -53,7 +53,11 @@ export class Client {
 	async action(path: string, fields: Record<string, string>) {
 		const res = await this.request(path, {
 			method: 'POST',
-			headers: { 'content-type': 'application/x-www-form-urlencoded', accept: 'application/json', 'x-sveltekit-action': 'true' },
+			headers: {
+				'content-type': 'application/x-www-form-urlencoded',
+				accept: 'application/json',
+				'x-sveltekit-action': 'true'
+			},
 			body: new URLSearchParams(fields)
 		});
 		const body = await res.json();

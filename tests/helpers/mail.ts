@@ -11,7 +11,7 @@ export interface FakeMail {
 }
 
 export async function allMail(): Promise<FakeMail[]> {
-	let names: string[] = [];
+	let names: string[];
 	try {
 		names = (await readdir(env.mailDir)).filter((n) => n.endsWith('.json')).sort();
 	} catch {

@@ -46,9 +46,15 @@ describe('personal API tokens', () => {
 		const p = await createProject();
 		await addMember(u.id, p.id, 'viewer');
 		const c = await signedIn(u.email, u.password);
-		const refused = await c.action('/account?/createToken', { projectKey: p.key, role: 'engineer', label: 'x' });
+		const refused = await c.action('/account?/createToken', {
+			projectKey: p.key,
+			role: 'engineer',
+			label: 'x'
+		});
 		expect(refused.status).toBe(403);
-		const rows = await testDb()('api_tokens').where({ user_id: u.id }).count<{ count: string }[]>('* as count');
+		const rows = await testDb()('api_tokens')
+			.where({ user_id: u.id })
+			.count<{ count: string }[]>('* as count');
 		expect(Number(rows[0].count)).toBe(0);
 		const token = await newToken(c, p.key, 'viewer');
 		const auth = { authorization: `Bearer ${token}`, accept: 'application/json' };
@@ -65,7 +71,10 @@ describe('personal API tokens', () => {
 	it('an unknown or malformed bearer token is 401 JSON', async () => {
 		const p = await createProject();
 		for (const t of ['lw_nope', '', 'x'.repeat(500)]) {
-			const res = await new Client().get(`/api/v1/projects/${p.key}`, { authorization: `Bearer ${t}`, accept: 'application/json' });
+			const res = await new Client().get(`/api/v1/projects/${p.key}`, {
+				authorization: `Bearer ${t}`,
+				accept: 'application/json'
+			});
 			expect(res.status).toBe(401);
 			expect(res.headers.get('content-type')).toMatch(/json/);
 			expect((await res.json()).error.status).toBe(401);

@@ -10,14 +10,18 @@ describe('audit trail', () => {
 		const u = await createUser();
 		await new Client().action('/signin', { email: u.email, password: 'wrong-password-here' });
 		await signedIn(u.email, u.password);
-		const events = await testDb()('audit_events').where({ subject_type: 'user', subject_id: String(u.id) }).orderBy('seq');
+		const events = await testDb()('audit_events')
+			.where({ subject_type: 'user', subject_id: String(u.id) })
+			.orderBy('seq');
 		expect(events.map((e) => e.action)).toEqual(['auth.sign-in-failed', 'auth.sign-in']);
 		expect(events[1].actor_user_id).toBe(u.id);
 
 		const admin = await createUser({ admin: true });
 		const c = await signedIn(admin.email, admin.password);
 		await c.action('/admin?/setDisabled', { userId: String(u.id), disabled: 'true' });
-		const disable = await testDb()('audit_events').where({ action: 'user.disable', subject_id: String(u.id) }).first();
+		const disable = await testDb()('audit_events')
+			.where({ action: 'user.disable', subject_id: String(u.id) })
+			.first();
 		expect(disable.actor_user_id).toBe(admin.id);
 		expect(disable.request_id).toMatch(/^[0-9a-f-]{36}$/);
 	});
@@ -26,7 +30,9 @@ describe('audit trail', () => {
 		const db = testDb();
 		const last = await db('audit_events').orderBy('seq', 'desc').first();
 		expect(last).toBeTruthy();
-		await expect(db('audit_events').where({ seq: last.seq }).update({ action: 'x' })).rejects.toThrow(/immutable/);
+		await expect(db('audit_events').where({ seq: last.seq }).update({ action: 'x' })).rejects.toThrow(
+			/immutable/
+		);
 		await expect(db('audit_events').where({ seq: last.seq }).delete()).rejects.toThrow(/immutable/);
 		await expect(db.raw('truncate audit_events')).rejects.toThrow(/immutable|cannot truncate/);
 	});

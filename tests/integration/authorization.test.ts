@@ -8,10 +8,10 @@ import { CALLERS, type Caller, type Outcome, type RouteCase } from './route-tabl
 // Every page, form action and endpoint against every kind of caller. The list of routes is read
 // from src/routes, so a new route without a decision in route-table/ fails here.
 
-const modules = import.meta.glob<{ cases: RouteCase[]; prepare?: (ctx: PrepareContext) => Promise<Record<string, string>> }>(
-	'./route-table/*.ts',
-	{ eager: true }
-);
+const modules = import.meta.glob<{
+	cases: RouteCase[];
+	prepare?: (ctx: PrepareContext) => Promise<Record<string, string>>;
+}>('./route-table/*.ts', { eager: true });
 export interface PrepareContext {
 	projectKey: string;
 	users: Awaited<ReturnType<typeof createTeam>>['users'];
@@ -38,11 +38,14 @@ function discover(): { route: string; method: string }[] {
 		if (server) {
 			const src = readFileSync(join(dir, server), 'utf8');
 			const block = src.match(/export const actions = \{([\s\S]*?)\n\} satisfies Actions/);
-			if (block) for (const m of block[1].matchAll(/^\t(\w+): async/gm)) found.push({ route, method: `ACTION ${m[1]}` });
+			if (block)
+				for (const m of block[1].matchAll(/^\t(\w+): async/gm))
+					found.push({ route, method: `ACTION ${m[1]}` });
 		}
 		if (names.includes('+server.ts')) {
 			const src = readFileSync(join(dir, '+server.ts'), 'utf8');
-			for (const m of src.matchAll(/export const (GET|POST|PUT|PATCH|DELETE)\b/g)) found.push({ route, method: m[1] });
+			for (const m of src.matchAll(/export const (GET|POST|PUT|PATCH|DELETE)\b/g))
+				found.push({ route, method: m[1] });
 		}
 	};
 	walk(root);
@@ -52,9 +55,13 @@ function discover(): { route: string; method: string }[] {
 describe('every route has a decision for every caller', () => {
 	it('the table covers every discovered page, action and endpoint', () => {
 		const discovered = discover();
-		const missing = discovered.filter((d) => !allCases.some((c) => c.route === d.route && c.method === d.method));
+		const missing = discovered.filter(
+			(d) => !allCases.some((c) => c.route === d.route && c.method === d.method)
+		);
 		expect(missing, 'routes without an entry in tests/integration/route-table/').toEqual([]);
-		const stale = allCases.filter((c) => !discovered.some((d) => d.route === c.route && d.method === c.method));
+		const stale = allCases.filter(
+			(c) => !discovered.some((d) => d.route === c.route && d.method === c.method)
+		);
 		expect(stale, 'entries for routes that no longer exist').toEqual([]);
 		expect(discovered.length).toBeGreaterThan(20);
 	});
@@ -75,7 +82,8 @@ describe('role-by-route outcomes', () => {
 		team = await createTeam();
 		fill.key = team.project.key;
 		for (const m of Object.values(modules)) {
-			if (m.prepare) Object.assign(fill, await m.prepare({ projectKey: team.project.key, users: team.users }));
+			if (m.prepare)
+				Object.assign(fill, await m.prepare({ projectKey: team.project.key, users: team.users }));
 		}
 		for (const c of CALLERS) clients[c] = await clientFor(c);
 	});
@@ -94,10 +102,14 @@ describe('role-by-route outcomes', () => {
 		}
 		if (c.method.startsWith('ACTION ')) {
 			const name = c.method.slice(7);
-			const r = await client.action(name === 'default' ? path : `${path}?/${name}`, (c.body ?? {}) as Record<string, string>);
+			const r = await client.action(
+				name === 'default' ? path : `${path}?/${name}`,
+				(c.body ?? {}) as Record<string, string>
+			);
 			if (r.type === 'redirect') return r.location?.startsWith('/signin') ? 'signin' : 'ok';
 			if (r.type === 'success') return 'ok';
-			if (r.type === 'failure') return [400, 404, 409, 413, 415, 422, 429].includes(r.status ?? 0) ? 'ok' : `failure ${r.status}`;
+			if (r.type === 'failure')
+				return [400, 404, 409, 413, 415, 422, 429].includes(r.status ?? 0) ? 'ok' : `failure ${r.status}`;
 			return (r.httpStatus as Outcome) ?? `error`;
 		}
 		const res = await client.request(path, {
@@ -118,9 +130,11 @@ describe('role-by-route outcomes', () => {
 			for (const caller of CALLERS) {
 				const got = await outcome(clients[caller], c);
 				checked++;
-				if (got !== c.expect[caller]) wrong.push(`${c.method} ${c.path} as ${caller}: expected ${c.expect[caller]}, got ${got}`);
+				if (got !== c.expect[caller])
+					wrong.push(`${c.method} ${c.path} as ${caller}: expected ${c.expect[caller]}, got ${got}`);
 				// Signing out ends the session: sign in again for the next cases.
-				if (c.route === '/signout' && c.method.startsWith('ACTION')) clients[caller] = await clientFor(caller);
+				if (c.route === '/signout' && c.method.startsWith('ACTION'))
+					clients[caller] = await clientFor(caller);
 			}
 		}
 		expect(wrong).toEqual([]);

@@ -5,8 +5,14 @@ import { afterAll, describe, expect, it } from 'vitest';
 
 // scripts/db.sh on a cluster of its own (its own name and port), so the suite's database is untouched.
 const slot = Number(process.env.LW_TEST_SLOT ?? 0);
-const env = { ...process.env, PG_NAME: `pg-scripts-${slot}`, PG_PORT: String(54349 + slot * 10), PG_DB: 'scripts_test' };
-const run = (cmd: string) => spawnSync('bash', ['scripts/db.sh', cmd], { env, encoding: 'utf8', timeout: 120_000 });
+const env = {
+	...process.env,
+	PG_NAME: `pg-scripts-${slot}`,
+	PG_PORT: String(54349 + slot * 10),
+	PG_DB: 'scripts_test'
+};
+const run = (cmd: string) =>
+	spawnSync('bash', ['scripts/db.sh', cmd], { env, encoding: 'utf8', timeout: 120_000 });
 
 afterAll(() => {
 	run('stop');

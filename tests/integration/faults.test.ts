@@ -12,7 +12,8 @@ import { expectMailTo } from '../helpers/mail';
 
 afterAll(closeTestDb);
 
-const db = (cmd: string) => spawnSync('bash', ['scripts/db.sh', cmd], { encoding: 'utf8', env: process.env, timeout: 120_000 });
+const db = (cmd: string) =>
+	spawnSync('bash', ['scripts/db.sh', cmd], { encoding: 'utf8', env: process.env, timeout: 120_000 });
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 
 describe('PostgreSQL restarted while the app serves', () => {
@@ -79,7 +80,11 @@ describe('mail relay down', () => {
 
 			// Bring the stand-ins back (same ports and folders), as scripts/test.sh started them.
 			const log = openSync(join(env.testData, 'fakes.log'), 'a');
-			const child = spawn('node_modules/.bin/tsx', ['fakes/run.ts'], { detached: true, stdio: ['ignore', log, log], env: process.env });
+			const child = spawn('node_modules/.bin/tsx', ['fakes/run.ts'], {
+				detached: true,
+				stdio: ['ignore', log, log],
+				env: process.env
+			});
 			closeSync(log);
 			writeFileSync(pidFile, String(child.pid));
 			child.unref();
@@ -90,7 +95,11 @@ describe('mail relay down', () => {
 			expect(sent.sent_at).not.toBeNull();
 		} finally {
 			if (!restarted) {
-				const child = spawn('node_modules/.bin/tsx', ['fakes/run.ts'], { detached: true, stdio: 'ignore', env: process.env });
+				const child = spawn('node_modules/.bin/tsx', ['fakes/run.ts'], {
+					detached: true,
+					stdio: 'ignore',
+					env: process.env
+				});
 				writeFileSync(pidFile, String(child.pid));
 				child.unref();
 			}

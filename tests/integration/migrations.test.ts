@@ -31,11 +31,15 @@ describe('migrations', () => {
 	it('apply, roll back completely and apply again', async () => {
 		// Through the same CLI that npm run migrate uses (tsx loads the TypeScript migrations).
 		const cli = (...args: string[]) => {
-			const r = spawnSync('node_modules/.bin/tsx', ['node_modules/knex/bin/cli.js', '--knexfile', 'knexfile.ts', ...args], {
-				env: { ...process.env, DATABASE_URL: scratchUrl },
-				encoding: 'utf8',
-				timeout: 60_000
-			});
+			const r = spawnSync(
+				'node_modules/.bin/tsx',
+				['node_modules/knex/bin/cli.js', '--knexfile', 'knexfile.ts', ...args],
+				{
+					env: { ...process.env, DATABASE_URL: scratchUrl },
+					encoding: 'utf8',
+					timeout: 60_000
+				}
+			);
 			expect(r.status, r.stderr).toBe(0);
 			return r.stdout;
 		};
@@ -58,15 +62,25 @@ describe('migrations', () => {
 	it('immutable tables refuse UPDATE and DELETE', async () => {
 		const db = knexFactory({ client: 'pg', connection: env.databaseUrl });
 		try {
-			const [u] = await db('users').insert({ email: `imm${Date.now()}@example.test`, display_name: 'I' }).returning('*');
+			const [u] = await db('users')
+				.insert({ email: `imm${Date.now()}@example.test`, display_name: 'I' })
+				.returning('*');
 			const [p] = await db('projects')
 				.insert({ key: 'IM' + Math.floor(Math.random() * 1e6), name: 'Imm' })
 				.returning('*');
 			const [m] = await db('models').insert({ project_id: p.id, name: 'm', owner_id: u.id }).returning('*');
 			const [v] = await db('model_versions')
-				.insert({ model_id: m.id, version: 1, content: { operatingPoints: [] }, content_hash: 'x', author_id: u.id })
+				.insert({
+					model_id: m.id,
+					version: 1,
+					content: { operatingPoints: [] },
+					content_hash: 'x',
+					author_id: u.id
+				})
 				.returning('*');
-			await expect(db('model_versions').where({ id: v.id }).update({ note: 'changed' })).rejects.toThrow(/immutable/);
+			await expect(db('model_versions').where({ id: v.id }).update({ note: 'changed' })).rejects.toThrow(
+				/immutable/
+			);
 			await expect(db('model_versions').where({ id: v.id }).delete()).rejects.toThrow(/immutable/);
 		} finally {
 			await db.destroy();

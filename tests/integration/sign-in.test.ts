@@ -31,7 +31,10 @@ describe('sign-in', () => {
 	it('gives the same answer for a wrong password and an unknown address', async () => {
 		const u = await createUser();
 		const wrong = await new Client().action('/signin', { email: u.email, password: 'wrong-password' });
-		const unknown = await new Client().action('/signin', { email: `${unique('nobody')}@example.test`, password: 'whatever-it-is' });
+		const unknown = await new Client().action('/signin', {
+			email: `${unique('nobody')}@example.test`,
+			password: 'whatever-it-is'
+		});
 		expect(wrong.type).toBe('failure');
 		expect(unknown.type).toBe('failure');
 		expect(wrong.status).toBe(unknown.status);
@@ -111,18 +114,29 @@ describe('invitation and password reset by mail', () => {
 		const guest = new Client();
 		expect((await guest.get(path)).status).toBe(200);
 		// Mismatched passwords: a field error, nothing created.
-		const bad = await guest.action(path, { displayName: 'New Person', password: 'long-enough-pw', confirm: 'different-pw' });
+		const bad = await guest.action(path, {
+			displayName: 'New Person',
+			password: 'long-enough-pw',
+			confirm: 'different-pw'
+		});
 		expect(bad.status).toBe(400);
 		expect((bad.data?.errors as Record<string, string>).confirm).toBeTruthy();
 		expect(await testDb()('users').where({ email }).first()).toBeUndefined();
-		const ok = await guest.action(path, { displayName: 'New Person', password: 'long-enough-pw', confirm: 'long-enough-pw' });
+		const ok = await guest.action(path, {
+			displayName: 'New Person',
+			password: 'long-enough-pw',
+			confirm: 'long-enough-pw'
+		});
 		expect(ok.type).toBe('redirect');
 		// The link works once.
 		expect((await new Client().get(path)).status).toBe(404);
 		const member = await signedIn(email, 'long-enough-pw');
 		const page = await member.get(`/p/${p.key}`);
 		expect(page.status).toBe(200);
-		const row = await testDb()('memberships as m').join('users as u', 'u.id', 'm.user_id').where('u.email', email).first('m.role');
+		const row = await testDb()('memberships as m')
+			.join('users as u', 'u.id', 'm.user_id')
+			.where('u.email', email)
+			.first('m.role');
 		expect(row.role).toBe('analyst');
 	});
 
@@ -153,7 +167,10 @@ describe('invitation and password reset by mail', () => {
 		const path = linkIn(mail, '/reset/');
 		const short = await anon.action(path, { password: 'short', confirm: 'short' });
 		expect(short.status).toBe(400);
-		const done = await anon.action(path, { password: 'a-brand-new-password', confirm: 'a-brand-new-password' });
+		const done = await anon.action(path, {
+			password: 'a-brand-new-password',
+			confirm: 'a-brand-new-password'
+		});
 		expect(done.type).toBe('redirect');
 		expect((await new Client().get(path)).status).toBe(404);
 		const old = await new Client().action('/signin', { email: u.email, password: u.password });
@@ -167,8 +184,16 @@ describe('administration', () => {
 	it('creates a project, changes a role, removes a member; bad project keys get field errors', async () => {
 		const admin = await createUser({ admin: true });
 		const c = await signedIn(admin.email, admin.password);
-		const key = 'Z' + Math.random().toString(36).slice(2, 6).toUpperCase().replace(/[^A-Z0-9]/g, 'Q');
-		expect((await c.action('/admin?/createProject', { key, name: 'Zed', description: '' })).type).toBe('success');
+		const key =
+			'Z' +
+			Math.random()
+				.toString(36)
+				.slice(2, 6)
+				.toUpperCase()
+				.replace(/[^A-Z0-9]/g, 'Q');
+		expect((await c.action('/admin?/createProject', { key, name: 'Zed', description: '' })).type).toBe(
+			'success'
+		);
 		const dup = await c.action('/admin?/createProject', { key, name: 'Again', description: '' });
 		expect(dup.status).toBe(409);
 		for (const bad of ['', '1AB', 'a', 'TOO-LONG-KEY!', 'X'.repeat(11)]) {
@@ -182,8 +207,12 @@ describe('administration', () => {
 		const p = await testDb()('projects').where({ key }).first();
 		const u = await createUser();
 		await addMember(u.id, p.id, 'viewer');
-		expect((await c.action(`/admin/projects/${key}?/setRole`, { userId: String(u.id), role: 'certifier' })).type).toBe('success');
-		expect((await testDb()('memberships').where({ user_id: u.id, project_id: p.id }).first()).role).toBe('certifier');
+		expect(
+			(await c.action(`/admin/projects/${key}?/setRole`, { userId: String(u.id), role: 'certifier' })).type
+		).toBe('success');
+		expect((await testDb()('memberships').where({ user_id: u.id, project_id: p.id }).first()).role).toBe(
+			'certifier'
+		);
 		const member = await signedIn(u.email, u.password);
 		expect((await member.get(`/p/${key}`)).status).toBe(200);
 		expect((await c.action(`/admin/projects/${key}?/remove`, { userId: String(u.id) })).type).toBe('success');

@@ -28,7 +28,8 @@ export function endpoint(handler: (event: RequestEvent) => Promise<Response>): R
 }
 
 export function toApiResponse(e: unknown, event: RequestEvent): Response {
-	if (isHttpError(e)) return apiError(e.status, e.body.message, e.body.fields ? { fields: e.body.fields } : {});
+	if (isHttpError(e))
+		return apiError(e.status, e.body.message, e.body.fields ? { fields: e.body.fields } : {});
 	if (e instanceof ServiceError) {
 		return apiError(e.status, e.message, {
 			...(Object.keys(e.fields).length ? { fields: e.fields } : {}),
@@ -63,6 +64,8 @@ export async function readJson(event: RequestEvent, maxBytes = 2_000_000): Promi
 	try {
 		return JSON.parse(text);
 	} catch (e) {
-		throw new ServiceError(400, `The body is not valid JSON: ${(e as Error).message}`, { body: 'Not valid JSON.' });
+		throw new ServiceError(400, `The body is not valid JSON: ${(e as Error).message}`, {
+			body: 'Not valid JSON.'
+		});
 	}
 }

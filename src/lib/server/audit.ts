@@ -73,7 +73,9 @@ export function eventHash(prevHash: string, e: Omit<StoredEvent, 'seq' | 'hash' 
 		after: e.after ?? null,
 		request_id: e.request_id ?? null
 	});
-	return createHash('sha256').update(prevHash + '\n' + content, 'utf8').digest('hex');
+	return createHash('sha256')
+		.update(prevHash + '\n' + content, 'utf8')
+		.digest('hex');
 }
 
 /** Append one event in the caller's transaction. */
@@ -108,7 +110,9 @@ export async function recordEvent(trx: Db, actor: Actor, event: AuditEvent): Pro
 }
 
 /** Walk the chain; name the first event whose link or content does not match. */
-export async function verifyChain(db: Db): Promise<{ ok: true; count: number } | { ok: false; count: number; brokenAt: number; reason: string }> {
+export async function verifyChain(
+	db: Db
+): Promise<{ ok: true; count: number } | { ok: false; count: number; brokenAt: number; reason: string }> {
 	let prev = GENESIS;
 	let count = 0;
 	let after = 0;
@@ -117,8 +121,10 @@ export async function verifyChain(db: Db): Promise<{ ok: true; count: number } |
 		if (rows.length === 0) break;
 		for (const r of rows) {
 			count++;
-			if (r.prev_hash !== prev) return { ok: false, count, brokenAt: r.seq, reason: 'its link to the previous event does not match' };
-			if (eventHash(prev, r) !== r.hash) return { ok: false, count, brokenAt: r.seq, reason: 'its content does not match its hash' };
+			if (r.prev_hash !== prev)
+				return { ok: false, count, brokenAt: r.seq, reason: 'its link to the previous event does not match' };
+			if (eventHash(prev, r) !== r.hash)
+				return { ok: false, count, brokenAt: r.seq, reason: 'its content does not match its hash' };
 			prev = r.hash;
 			after = r.seq;
 		}
@@ -138,6 +144,12 @@ export function historyOf(db: Db, subjectType: string, subjectId: string | numbe
 export function actorOf(locals: App.Locals): Actor {
 	const u = locals.user;
 	if (!u) return { label: 'anonymous', requestId: locals.requestId };
-	if (locals.apiToken) return { userId: u.id, tokenId: locals.apiToken.id, label: `token ${locals.apiToken.id} of ${u.email}`, requestId: locals.requestId };
+	if (locals.apiToken)
+		return {
+			userId: u.id,
+			tokenId: locals.apiToken.id,
+			label: `token ${locals.apiToken.id} of ${u.email}`,
+			requestId: locals.requestId
+		};
 	return { userId: u.id, label: u.email, requestId: locals.requestId };
 }

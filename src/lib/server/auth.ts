@@ -12,7 +12,11 @@ export const PRECHECK_HEADER = 'x-loopwarden-precheck';
 // Auth.js issues and verifies the session (a signed, encrypted JWT cookie). The JWT only carries
 // the user id: the account and its project roles are read from the database on every request,
 // so disabling a user or removing a membership takes effect at once.
-export const { handle: authHandle, signIn, signOut } = SvelteKitAuth({
+export const {
+	handle: authHandle,
+	signIn,
+	signOut
+} = SvelteKitAuth({
 	trustHost: env.AUTH_TRUST_HOST === 'true',
 	secret: env.AUTH_SECRET,
 	session: { strategy: 'jwt', maxAge: 12 * 60 * 60 },
@@ -80,7 +84,8 @@ export function requireUser(event: RequestEvent): UserRow {
 /** Site administrators only. */
 export function requireAdmin(event: RequestEvent): UserRow {
 	const user = requireUser(event);
-	if (!user.site_admin || event.locals.apiToken) error(403, { message: 'Only site administrators may do this.' });
+	if (!user.site_admin || event.locals.apiToken)
+		error(403, { message: 'Only site administrators may do this.' });
 	return user;
 }
 

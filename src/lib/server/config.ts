@@ -38,5 +38,23 @@ export const config = {
 	},
 	get signInWindowMinutes(): number {
 		return int('SIGNIN_WINDOW_MINUTES', 15);
+	},
+	/** The S3-compatible object store for evidence files (see storage.ts). */
+	get storage() {
+		const endpoint = process.env.S3_ENDPOINT || undefined;
+		const pathStyle = process.env.S3_FORCE_PATH_STYLE;
+		return {
+			endpoint,
+			region: process.env.S3_REGION || 'us-east-1',
+			bucket: process.env.S3_BUCKET || 'loopwarden-evidence',
+			accessKeyId: process.env.S3_ACCESS_KEY_ID || undefined,
+			secretAccessKey: process.env.S3_SECRET_ACCESS_KEY || undefined,
+			// Path-style addressing by default with an endpoint: most self-hosted stores need it.
+			forcePathStyle: pathStyle ? pathStyle === 'true' : !!endpoint
+		};
+	},
+	/** Largest evidence file accepted, in bytes (default 200 MiB). */
+	get evidenceMaxBytes(): number {
+		return int('EVIDENCE_MAX_BYTES', 200 * 1024 * 1024);
 	}
 };

@@ -34,9 +34,18 @@ export function isDatabaseUnavailable(e: unknown): boolean {
 	const code = err?.code ?? '';
 	const msg = err?.message ?? '';
 	return (
-		['ECONNREFUSED', 'ECONNRESET', 'ETIMEDOUT', 'EPIPE', '57P01', '57P02', '57P03', '08006', '08001', '08003'].includes(
-			code
-		) ||
+		[
+			'ECONNREFUSED',
+			'ECONNRESET',
+			'ETIMEDOUT',
+			'EPIPE',
+			'57P01',
+			'57P02',
+			'57P03',
+			'08006',
+			'08001',
+			'08003'
+		].includes(code) ||
 		/Knex: Timeout acquiring a connection|Connection terminated|the database system is (starting up|shutting down)/i.test(
 			msg
 		)

@@ -52,8 +52,15 @@ async function deliver(): Promise<number> {
 				.first();
 			if (!row) return null;
 			try {
-				await t.sendMail({ from: config.mailFrom, to: row.to_address, subject: row.subject, text: row.body_text });
-				await trx('mail_outbox').where({ id: row.id }).update({ sent_at: trx.fn.now(), attempts: row.attempts + 1 });
+				await t.sendMail({
+					from: config.mailFrom,
+					to: row.to_address,
+					subject: row.subject,
+					text: row.body_text
+				});
+				await trx('mail_outbox')
+					.where({ id: row.id })
+					.update({ sent_at: trx.fn.now(), attempts: row.attempts + 1 });
 				return true;
 			} catch (e) {
 				// Back off: 5 s, 10 s, 20 s ... at most 10 minutes.

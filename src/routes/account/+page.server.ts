@@ -15,9 +15,15 @@ const tokenForm = z.object({
 	role: z.enum(ROLES, { error: 'Choose a role.' }),
 	label: z.string().trim().min(1, 'Name the token (what uses it).').max(80, 'Use at most 80 characters.')
 });
-const revokeForm = z.object({ id: z.coerce.number({ error: 'Missing token.' }).int().positive('Missing token.') });
+const revokeForm = z.object({
+	id: z.coerce.number({ error: 'Missing token.' }).int().positive('Missing token.')
+});
 const passwordForm = z
-	.object({ current: z.string().min(1, 'Enter your current password.').max(200), password, confirm: z.string() })
+	.object({
+		current: z.string().min(1, 'Enter your current password.').max(200),
+		password,
+		confirm: z.string()
+	})
 	.refine((v) => v.password === v.confirm, { path: ['confirm'], message: 'The two passwords differ.' });
 
 export const load = (async (event) => {
@@ -61,7 +67,11 @@ export const actions = {
 			// Shown once: only its hash is stored.
 			return { action: 'createToken', token: t.token, label: parsed.data.label };
 		} catch (e) {
-			if (e instanceof ServiceError) return fail(e.status, { action: 'createToken', errors: { ...e.fields, _: e.message } as FieldErrors });
+			if (e instanceof ServiceError)
+				return fail(e.status, {
+					action: 'createToken',
+					errors: { ...e.fields, _: e.message } as FieldErrors
+				});
 			throw e;
 		}
 	},
@@ -72,7 +82,11 @@ export const actions = {
 		try {
 			await revokeToken(actorOf(event.locals), user, parsed.data.id);
 		} catch (e) {
-			if (e instanceof ServiceError) return fail(e.status, { action: 'revokeToken', errors: { ...e.fields, _: e.message } as FieldErrors });
+			if (e instanceof ServiceError)
+				return fail(e.status, {
+					action: 'revokeToken',
+					errors: { ...e.fields, _: e.message } as FieldErrors
+				});
 			throw e;
 		}
 		return { action: 'revokeToken', ok: true };

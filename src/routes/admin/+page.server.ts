@@ -31,12 +31,14 @@ export const actions = {
 			description: String(form.description ?? '')
 		};
 		const parsed = createProjectForm.safeParse(form);
-		if (!parsed.success) return fail(400, { action: 'createProject', values, errors: fieldErrors(parsed.error) });
+		if (!parsed.success)
+			return fail(400, { action: 'createProject', values, errors: fieldErrors(parsed.error) });
 		try {
 			const p = await createProject(actorOf(event.locals), parsed.data);
 			return { action: 'createProject', created: p.key };
 		} catch (e) {
-			if (e instanceof ServiceError) return fail(e.status, { action: 'createProject', values, errors: e.fields });
+			if (e instanceof ServiceError)
+				return fail(e.status, { action: 'createProject', values, errors: e.fields });
 			throw e;
 		}
 	},
@@ -48,7 +50,11 @@ export const actions = {
 		try {
 			await setUserDisabled(actorOf(event.locals), parsed.data.userId, parsed.data.disabled);
 		} catch (e) {
-			if (e instanceof ServiceError) return fail(e.status, { action: 'setDisabled', errors: { ...e.fields, _: e.message } as FieldErrors });
+			if (e instanceof ServiceError)
+				return fail(e.status, {
+					action: 'setDisabled',
+					errors: { ...e.fields, _: e.message } as FieldErrors
+				});
 			throw e;
 		}
 		return { action: 'setDisabled', ok: true };

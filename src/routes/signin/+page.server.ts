@@ -28,7 +28,8 @@ export const actions = {
 		try {
 			userId = (await checkCredentials(parsed.data.email, parsed.data.password, event.getClientAddress())).id;
 		} catch (e) {
-			if (e instanceof ServiceError) return fail(e.status, { values, errors: {} as FieldErrors, message: e.message });
+			if (e instanceof ServiceError)
+				return fail(e.status, { values, errors: {} as FieldErrors, message: e.message });
 			throw e;
 		}
 		// Auth.js then issues the session cookie (it checks the credentials again in authorize()).

@@ -2,7 +2,15 @@
 // each kind of caller. tests/integration/authorization.test.ts discovers the routes under src/routes
 // and fails when one has no entry here. Add one file per area (requirements.ts, models.ts ...).
 
-export const CALLERS = ['anonymous', 'viewer', 'engineer', 'analyst', 'certifier', 'admin', 'outsider'] as const;
+export const CALLERS = [
+	'anonymous',
+	'viewer',
+	'engineer',
+	'analyst',
+	'certifier',
+	'admin',
+	'outsider'
+] as const;
 export type Caller = (typeof CALLERS)[number];
 
 /**

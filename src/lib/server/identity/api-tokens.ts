@@ -41,20 +41,35 @@ export async function createToken(
 	input: { projectKey: string; role: Role; label: string }
 ): Promise<{ token: string; id: number }> {
 	const project = await projects.byKey(db(), input.projectKey);
-	if (!project) throw new ServiceError(404, `There is no project ${input.projectKey}.`, { projectKey: 'No such project.' });
+	if (!project)
+		throw new ServiceError(404, `There is no project ${input.projectKey}.`, {
+			projectKey: 'No such project.'
+		});
 	const own = await memberships.role(db(), user.id, project.id);
 	if (!own && !user.site_admin) {
-		throw new ServiceError(403, `You are not a member of ${project.key}.`, { projectKey: 'You are not a member.' });
+		throw new ServiceError(403, `You are not a member of ${project.key}.`, {
+			projectKey: 'You are not a member.'
+		});
 	}
 	if (!user.site_admin && own !== input.role && input.role !== 'viewer') {
-		throw new ServiceError(403, `A token may have your own role in ${project.key} (${own}) or viewer, not ${input.role}.`, {
-			role: `Choose ${own} or viewer.`
-		});
+		throw new ServiceError(
+			403,
+			`A token may have your own role in ${project.key} (${own}) or viewer, not ${input.role}.`,
+			{
+				role: `Choose ${own} or viewer.`
+			}
+		);
 	}
 	const plain = `lw_${newToken().token}`;
 	const id = await db().transaction(async (trx) => {
 		const [row] = await trx('api_tokens')
-			.insert({ user_id: user.id, project_id: project.id, role: input.role, label: input.label, token_hash: hashToken(plain) })
+			.insert({
+				user_id: user.id,
+				project_id: project.id,
+				role: input.role,
+				label: input.label,
+				token_hash: hashToken(plain)
+			})
 			.returning('id');
 		await recordEvent(trx, actor, {
 			projectId: project.id,
@@ -70,7 +85,10 @@ export async function createToken(
 
 export async function revokeToken(actor: Actor, user: UserRow, id: number): Promise<void> {
 	await db().transaction(async (trx) => {
-		const n = await trx('api_tokens').where({ id, user_id: user.id }).whereNull('revoked_at').update({ revoked_at: trx.fn.now() });
+		const n = await trx('api_tokens')
+			.where({ id, user_id: user.id })
+			.whereNull('revoked_at')
+			.update({ revoked_at: trx.fn.now() });
 		if (n === 0) throw new ServiceError(404, 'No such active token of yours.', { id: 'Not found.' });
 		await recordEvent(trx, actor, { action: 'api-token.revoke', subjectType: 'api-token', subjectId: id });
 	});

@@ -6,7 +6,15 @@ import { ServiceError } from '../errors';
 import { enqueueMail, kickMail } from '../mail';
 import { dummyHash, hashPassword, verifyPassword } from '../passwords';
 import { hashToken, newToken } from '../tokens';
-import { invitations, memberships, passwordResets, projects, signInAttempts, users, type UserRow } from './repo';
+import {
+	invitations,
+	memberships,
+	passwordResets,
+	projects,
+	signInAttempts,
+	users,
+	type UserRow
+} from './repo';
 import type { Role } from './roles';
 
 export const SIGN_IN_REFUSED = 'That e-mail address and password do not match an active account.';
@@ -34,7 +42,12 @@ export async function checkCredentials(email: string, password: string, ip: stri
 		await recordEvent(
 			trx,
 			{ userId: good ? user.id : null, label: good ? user.email : `unverified ${email}` },
-			{ action: good ? 'auth.sign-in' : 'auth.sign-in-failed', subjectType: 'user', subjectId: user?.id ?? null, after: { email, ip } }
+			{
+				action: good ? 'auth.sign-in' : 'auth.sign-in-failed',
+				subjectType: 'user',
+				subjectId: user?.id ?? null,
+				after: { email, ip }
+			}
 		);
 	});
 	if (!good) throw new ServiceError(400, SIGN_IN_REFUSED);
@@ -74,18 +87,27 @@ export async function createProject(actor: Actor, input: { key: string; name: st
 	}
 	return db().transaction(async (trx) => {
 		const p = await projects.insert(trx, input);
-		await recordEvent(trx, actor, { projectId: p.id, action: 'project.create', subjectType: 'project', subjectId: p.id, after: input });
+		await recordEvent(trx, actor, {
+			projectId: p.id,
+			action: 'project.create',
+			subjectType: 'project',
+			subjectId: p.id,
+			after: input
+		});
 		return p;
 	});
 }
 
-export async function invite(actor: Actor, input: {
-	projectId: number;
-	projectName: string;
-	email: string;
-	role: Role;
-	invitedBy: UserRow;
-}): Promise<{ link: string; existingUser: boolean }> {
+export async function invite(
+	actor: Actor,
+	input: {
+		projectId: number;
+		projectName: string;
+		email: string;
+		role: Role;
+		invitedBy: UserRow;
+	}
+): Promise<{ link: string; existingUser: boolean }> {
 	const { token, hash } = newToken();
 	const link = `${config.publicOrigin}/invitation/${token}`;
 	const existing = await users.byEmail(db(), input.email);
@@ -149,13 +171,17 @@ export async function acceptInvitation(
 			});
 		}
 		await memberships.upsert(trx, user.id, inv.project_id, inv.role);
-		await recordEvent(trx, { userId: user.id, label: user.email }, {
-			projectId: inv.project_id,
-			action: 'membership.accept-invitation',
-			subjectType: 'membership',
-			subjectId: `${inv.project_id}:${user.id}`,
-			after: { role: inv.role }
-		});
+		await recordEvent(
+			trx,
+			{ userId: user.id, label: user.email },
+			{
+				projectId: inv.project_id,
+				action: 'membership.accept-invitation',
+				subjectType: 'membership',
+				subjectId: `${inv.project_id}:${user.id}`,
+				after: { role: inv.role }
+			}
+		);
 		return { projectKey: inv.project_key, email: inv.email };
 	});
 }
@@ -189,13 +215,18 @@ export async function resetPassword(token: string, password: string): Promise<vo
 	await db().transaction(async (trx) => {
 		const row = await passwordResets.openByHash(trx, hashToken(token));
 		if (!row) throw new ServiceError(404, 'This reset link is not valid any more (used or expired).');
-		if ((await passwordResets.markUsed(trx, row.id)) === 0) throw new ServiceError(409, 'This link was just used.');
+		if ((await passwordResets.markUsed(trx, row.id)) === 0)
+			throw new ServiceError(409, 'This link was just used.');
 		await users.update(trx, row.user_id, { password_hash: await hashPassword(password) });
-		await recordEvent(trx, { userId: row.user_id, label: `user ${row.user_id} (reset link)` }, {
-			action: 'user.password-reset',
-			subjectType: 'user',
-			subjectId: row.user_id
-		});
+		await recordEvent(
+			trx,
+			{ userId: row.user_id, label: `user ${row.user_id} (reset link)` },
+			{
+				action: 'user.password-reset',
+				subjectType: 'user',
+				subjectId: row.user_id
+			}
+		);
 	});
 }
 
@@ -220,7 +251,10 @@ export async function removeMembership(actor: Actor, projectId: number, userId: 
 	await db().transaction(async (trx) => {
 		const before = await memberships.role(trx, userId, projectId);
 		const n = await memberships.remove(trx, userId, projectId);
-		if (n === 0) throw new ServiceError(404, 'That person is not a member of this project.', { userId: 'Not a member.' });
+		if (n === 0)
+			throw new ServiceError(404, 'That person is not a member of this project.', {
+				userId: 'Not a member.'
+			});
 		await recordEvent(trx, actor, {
 			projectId,
 			action: 'membership.remove',
@@ -238,7 +272,11 @@ export async function setUserDisabled(actor: Actor, userId: number, disabled: bo
 	await db().transaction(async (trx) => {
 		const n = await users.update(trx, userId, { disabled });
 		if (n === 0) throw new ServiceError(404, 'No such user.', { userId: 'No such user.' });
-		await recordEvent(trx, actor, { action: disabled ? 'user.disable' : 'user.enable', subjectType: 'user', subjectId: userId });
+		await recordEvent(trx, actor, {
+			action: disabled ? 'user.disable' : 'user.enable',
+			subjectType: 'user',
+			subjectId: userId
+		});
 	});
 }
 
@@ -254,14 +292,23 @@ export const projectByKey = (key: string) => projects.byKey(db(), key);
 export const roleIn = (userId: number, projectId: number) => memberships.role(db(), userId, projectId);
 export const accountExists = async (email: string) => !!(await users.byEmail(db(), email));
 
-export async function changePassword(actor: Actor, user: UserRow, current: string, next: string): Promise<void> {
+export async function changePassword(
+	actor: Actor,
+	user: UserRow,
+	current: string,
+	next: string
+): Promise<void> {
 	if (!(await verifyPassword(user.password_hash, current))) {
 		throw new ServiceError(400, 'The current password is not right.', { current: 'Not right.' });
 	}
 	const hash = await hashPassword(next);
 	await db().transaction(async (trx) => {
 		await users.update(trx, user.id, { password_hash: hash });
-		await recordEvent(trx, actor, { action: 'user.password-change', subjectType: 'user', subjectId: user.id });
+		await recordEvent(trx, actor, {
+			action: 'user.password-change',
+			subjectType: 'user',
+			subjectId: user.id
+		});
 	});
 }
 

@@ -8,20 +8,28 @@ export const load = (async ({ params }) => {
 	const inv = await openInvitation(params.token);
 	if (!inv) error(404, { message: 'This invitation link is not valid any more (used or expired).' });
 	const existing = await accountExists(inv.email);
-	return { email: inv.email, role: inv.role, projectKey: inv.project_key, projectName: inv.project_name, existing };
+	return {
+		email: inv.email,
+		role: inv.role,
+		projectKey: inv.project_key,
+		projectName: inv.project_name,
+		existing
+	};
 }) satisfies PageServerLoad;
 
 export const actions = {
 	default: async ({ request, params }) => {
 		const inv = await openInvitation(params.token);
-		if (!inv) return fail(404, { errors: {} as FieldErrors, message: 'This invitation link is not valid any more.' });
+		if (!inv)
+			return fail(404, { errors: {} as FieldErrors, message: 'This invitation link is not valid any more.' });
 		const existing = await accountExists(inv.email);
 		const form = Object.fromEntries(await request.formData());
 		let input: { displayName?: string; password?: string } = {};
 		if (!existing) {
 			const parsed = setPasswordForm.safeParse(form);
 			if (!parsed.success) return fail(400, { errors: fieldErrors(parsed.error), message: null });
-			if (!parsed.data.displayName) return fail(400, { errors: { displayName: 'Enter a name.' } as FieldErrors, message: null });
+			if (!parsed.data.displayName)
+				return fail(400, { errors: { displayName: 'Enter a name.' } as FieldErrors, message: null });
 			input = parsed.data;
 		}
 		try {

@@ -6,7 +6,8 @@ import type { Actions, PageServerLoad } from './$types';
 
 export const load = (async ({ params }) => {
 	const reset = await openPasswordReset(params.token);
-	if (!reset) error(404, { message: 'This reset link is not valid any more (used or expired). Ask for a new one.' });
+	if (!reset)
+		error(404, { message: 'This reset link is not valid any more (used or expired). Ask for a new one.' });
 	return {};
 }) satisfies PageServerLoad;
 

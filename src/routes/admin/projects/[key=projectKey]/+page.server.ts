@@ -26,8 +26,19 @@ export const load = (async (event) => {
 	const [members, invitations] = await Promise.all([listMembers(p.id), listPendingInvitations(p.id)]);
 	return {
 		project: { key: p.key, name: p.name, description: p.description },
-		members: members.map((m) => ({ userId: m.user_id, email: m.email, name: m.display_name, role: m.role, disabled: m.disabled })),
-		invitations: invitations.map((i) => ({ id: i.id, email: i.email, role: i.role, expiresAt: new Date(i.expires_at).toISOString() })),
+		members: members.map((m) => ({
+			userId: m.user_id,
+			email: m.email,
+			name: m.display_name,
+			role: m.role,
+			disabled: m.disabled
+		})),
+		invitations: invitations.map((i) => ({
+			id: i.id,
+			email: i.email,
+			role: i.role,
+			expiresAt: new Date(i.expires_at).toISOString()
+		})),
 		roles: ROLES.map((r) => ({ value: r, label: ROLE_LABELS[r] }))
 	};
 }) satisfies PageServerLoad;
@@ -40,7 +51,13 @@ export const actions = {
 		const values = { email: String(form.email ?? ''), role: String(form.role ?? '') };
 		const parsed = inviteForm.safeParse(form);
 		if (!parsed.success) return fail(400, { action: 'invite', values, errors: fieldErrors(parsed.error) });
-		const r = await invite(actorOf(event.locals), { projectId: p.id, projectName: p.name, email: parsed.data.email, role: parsed.data.role, invitedBy: admin });
+		const r = await invite(actorOf(event.locals), {
+			projectId: p.id,
+			projectName: p.name,
+			email: parsed.data.email,
+			role: parsed.data.role,
+			invitedBy: admin
+		});
 		return { action: 'invite', invited: parsed.data.email, existingUser: r.existingUser };
 	},
 	setRole: async (event) => {
@@ -51,7 +68,8 @@ export const actions = {
 		try {
 			await setMembership(actorOf(event.locals), p.id, parsed.data.userId, parsed.data.role);
 		} catch (e) {
-			if (e instanceof ServiceError) return fail(e.status, { action: 'setRole', errors: { ...e.fields, _: e.message } as FieldErrors });
+			if (e instanceof ServiceError)
+				return fail(e.status, { action: 'setRole', errors: { ...e.fields, _: e.message } as FieldErrors });
 			throw e;
 		}
 		return { action: 'setRole', ok: true };
@@ -64,7 +82,8 @@ export const actions = {
 		try {
 			await removeMembership(actorOf(event.locals), p.id, parsed.data.userId);
 		} catch (e) {
-			if (e instanceof ServiceError) return fail(e.status, { action: 'remove', errors: { ...e.fields, _: e.message } as FieldErrors });
+			if (e instanceof ServiceError)
+				return fail(e.status, { action: 'remove', errors: { ...e.fields, _: e.message } as FieldErrors });
 			throw e;
 		}
 		return { action: 'remove', ok: true };
