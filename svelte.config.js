@@ -6,6 +6,8 @@ const config = {
 	preprocess: vitePreprocess(),
 	compilerOptions: { runes: true },
 	kit: {
+		// The tests build into their own folder, so that several test runs (and npm start) can build at once.
+		outDir: process.env.LW_KIT_OUT_DIR || '.svelte-kit',
 		adapter: adapter({ out: process.env.BUILD_DIR ?? 'build' }),
 		csp: {
 			mode: 'hash',

@@ -34,6 +34,10 @@ export ORIGIN="http://127.0.0.1:$PORT" LW_BASE_URL="http://127.0.0.1:$PORT"
 export FAKE_DIR="$TEST_DATA/fakes" FAKE_SMTP_PORT=$((2526 + SLOT * 10)) FAKE_S3_PORT=$((4570 + SLOT * 10))
 export S3_BUCKET=loopwarden-test S3_ENDPOINT="http://127.0.0.1:$FAKE_S3_PORT" S3_ACCESS_KEY_ID=S3RVER S3_SECRET_ACCESS_KEY=S3RVER
 export SMTP_URL="smtp://127.0.0.1:$FAKE_SMTP_PORT" MAIL_FAKE_DIR="$FAKE_DIR/mail"
+# Evidence uploads are streamed and limited by the app (EVIDENCE_MAX_BYTES), not by the adapter's 512 KiB
+# default. Tests run with a 12 MiB limit so the over-size case stays quick; the 200 MiB default is checked
+# by tests/unit/evidence/config.test.ts and exercised by npm run bench.
+export BODY_SIZE_LIMIT=Infinity EVIDENCE_MAX_BYTES=12582912
 export AUTH_SECRET="test-secret-$(head -c 16 /dev/urandom | base64 | tr -dc A-Za-z0-9)" AUTH_TRUST_HOST=true
 export DEMO_MODE=true
 # Loose limits in tests that are not about them; the rate-limit test sets its own addresses.
@@ -64,7 +68,7 @@ start_fakes "$TEST_DATA/fakes.pid" "$TEST_DATA/fakes.log" || fail_setup "local s
 
 say "building the app"
 node_modules/.bin/svelte-kit sync >/dev/null
-node_modules/.bin/vite build --logLevel error >"$TEST_DATA/build.log" 2>&1 || { cat "$TEST_DATA/build.log"; fail_setup "build"; }
+LW_KIT_OUT_DIR="$TEST_DATA/kit" node_modules/.bin/vite build --logLevel error >"$TEST_DATA/build.log" 2>&1 || { cat "$TEST_DATA/build.log"; fail_setup "build"; }
 setsid node "$BUILD_DIR" >"$TEST_DATA/app.log" 2>&1 &
 echo $! >"$TEST_DATA/app.pid"
 wait_port 127.0.0.1 "$PORT" 30 || { cat "$TEST_DATA/app.log"; fail_setup "app server"; }
