@@ -16,6 +16,8 @@ export PG_PORT="${PG_PORT:-54329}" PG_NAME="${PG_NAME:-pg}"
 export FAKE_DIR="${FAKE_DIR:-$ROOT/.data/fakes}"
 export FAKE_SMTP_PORT="${FAKE_SMTP_PORT:-2525}" FAKE_S3_PORT="${FAKE_S3_PORT:-4569}"
 export S3_BUCKET="${S3_BUCKET:-loopwarden-evidence}"
+# Evidence uploads are streamed and limited by the app itself (EVIDENCE_MAX_BYTES, default 200 MiB).
+export BODY_SIZE_LIMIT="${BODY_SIZE_LIMIT:-Infinity}"
 
 bash scripts/db.sh start
 export DATABASE_URL="${DATABASE_URL:-$(bash scripts/db.sh url)}"

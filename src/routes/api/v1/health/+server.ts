@@ -1,5 +1,7 @@
 import { json } from '@sveltejs/kit';
 import { health } from '$lib/server/health';
+// Registers the 'storage' check (HeadBucket on the evidence bucket).
+import '$lib/server/storage';
 import type { RequestHandler } from './$types';
 
 // Public: the state of each dependency. 503 names the failing checks.

@@ -1,0 +1,41 @@
+import { json } from '@sveltejs/kit';
+import { endpoint } from '$lib/server/api';
+import { actorOf } from '$lib/server/audit';
+import { requireRole } from '$lib/server/auth';
+import { db } from '$lib/server/db';
+import { UPLOAD_ROLES } from '$lib/server/evidence/guard';
+import { listEvidence, uploadEvidence } from '$lib/server/evidence/service';
+import { combinedStates } from '$lib/server/evidence/state';
+import type { RequestHandler } from './$types';
+
+// GET: the project's evidence (filters: kind, review, requirement). With ?requirement=<id> the answer
+// also carries that requirement's combined verification state.
+export const GET = endpoint(async (event) => {
+	const { project } = await requireRole(event, event.params.key!);
+	const q = event.url.searchParams;
+	const list = await listEvidence(project.id, {
+		kind: q.get('kind') ?? undefined,
+		review: q.get('review') ?? undefined,
+		requirement: q.get('requirement') ?? undefined
+	});
+	let combined = null;
+	const reqId = Number(q.get('requirement'));
+	if (Number.isInteger(reqId) && reqId > 0) {
+		const states = await combinedStates(db(), [reqId]);
+		combined = states.get(reqId) ?? null;
+	}
+	return json({ evidence: list.rows, combined }, { headers: { 'cache-control': 'no-store' } });
+}) satisfies RequestHandler;
+
+// POST multipart/form-data: `file` plus title, kind, requirementIds (comma-separated identifiers or ids),
+// optional method, testArticle, testDate (YYYY-MM-DD), note, frequencyUnit, magnitudeUnit, layout.
+export const POST = endpoint(async (event) => {
+	const { project } = await requireRole(event, event.params.key!, UPLOAD_ROLES);
+	const record = await uploadEvidence({
+		project,
+		actor: actorOf(event.locals),
+		headers: event.request.headers,
+		body: event.request.body
+	});
+	return json(record, { status: 201, headers: { location: `/api/v1/evidence/${record.id}` } });
+}) satisfies RequestHandler;

@@ -1,0 +1,125 @@
+import { deflateSync } from 'node:zlib';
+import { signedIn } from '../../helpers/http';
+import type { PrepareContext } from '../authorization.test';
+import { membersOnly, rolesOnly, type RouteCase } from './types';
+
+// Evidence: every member reads and downloads; engineers, analysts and certifiers upload; certifiers
+// review. Write bodies are invalid (not multipart, or missing fields), so the table changes nothing.
+
+const uploaders = rolesOnly(['engineer', 'analyst', 'certifier']);
+const apiUploaders = rolesOnly(['engineer', 'analyst', 'certifier'], 401);
+
+export const cases: RouteCase[] = [
+	{
+		route: '/api/v1/projects/[key=projectKey]/evidence',
+		method: 'GET',
+		path: '/api/v1/projects/{key}/evidence',
+		expect: membersOnly(401)
+	},
+	{
+		route: '/api/v1/projects/[key=projectKey]/evidence',
+		method: 'POST',
+		path: '/api/v1/projects/{key}/evidence',
+		body: { title: '' },
+		expect: apiUploaders
+	},
+	{
+		route: '/api/v1/evidence/[id=id]',
+		method: 'GET',
+		path: '/api/v1/evidence/{evidenceId}',
+		expect: membersOnly(401)
+	},
+	{
+		route: '/api/v1/evidence/[id=id]/revisions',
+		method: 'POST',
+		path: '/api/v1/evidence/{evidenceId}/revisions',
+		body: { title: '' },
+		expect: apiUploaders
+	},
+	{
+		route: '/api/v1/evidence/[id=id]/review',
+		method: 'POST',
+		path: '/api/v1/evidence/{evidenceId}/review',
+		body: { decision: 'maybe' },
+		expect: rolesOnly(['certifier'], 401)
+	},
+	{
+		route: '/api/v1/evidence/[id=id]/integrity',
+		method: 'POST',
+		path: '/api/v1/evidence/{evidenceId}/integrity?revision=none',
+		expect: membersOnly(401)
+	},
+	{
+		route: '/api/v1/evidence/[id=id]/download',
+		method: 'GET',
+		path: '/api/v1/evidence/{evidenceId}/download',
+		expect: membersOnly(401)
+	},
+	{
+		route: '/p/[key=projectKey]/evidence/[id=id]/inline',
+		method: 'GET',
+		path: '/p/{key}/evidence/{evidenceId}/inline',
+		expect: membersOnly()
+	}
+];
+void uploaders;
+
+/** A 1x1 PNG (ISO/IEC 15948 layout), so the inline view has something to show. */
+function png(): Buffer {
+	const table = Array.from({ length: 256 }, (_, n) => {
+		let c = n;
+		for (let k = 0; k < 8; k++) c = c & 1 ? 0xedb88320 ^ (c >>> 1) : c >>> 1;
+		return c >>> 0;
+	});
+	const crc = (b: Buffer) => {
+		let c = 0xffffffff;
+		for (const x of b) c = table[(c ^ x) & 0xff] ^ (c >>> 8);
+		return (c ^ 0xffffffff) >>> 0;
+	};
+	const chunk = (type: string, data: Buffer) => {
+		const len = Buffer.alloc(4);
+		len.writeUInt32BE(data.length);
+		const td = Buffer.concat([Buffer.from(type, 'ascii'), data]);
+		const c = Buffer.alloc(4);
+		c.writeUInt32BE(crc(td));
+		return Buffer.concat([len, td, c]);
+	};
+	const ihdr = Buffer.alloc(13);
+	ihdr.writeUInt32BE(1, 0);
+	ihdr.writeUInt32BE(1, 4);
+	ihdr[8] = 8;
+	ihdr[9] = 2;
+	return Buffer.concat([
+		Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]),
+		chunk('IHDR', ihdr),
+		chunk('IDAT', deflateSync(Buffer.from([0, 0, 0, 0]))),
+		chunk('IEND', Buffer.alloc(0))
+	]);
+}
+
+/** One piece of evidence (an image) in the team project, uploaded through the API by the engineer. */
+export async function prepare(ctx: PrepareContext): Promise<Record<string, string>> {
+	const { testDb } = await import('../../factories');
+	const db = testDb();
+	const [r] = await db('requirements')
+		.insert({
+			project_id: (await db('projects').where({ key: ctx.projectKey }).first()).id,
+			number: 9000 + Math.floor(Math.random() * 1e6),
+			identifier: `EVT-${Date.now().toString(36).toUpperCase()}`
+		})
+		.returning('*');
+	const engineer = await signedIn(ctx.users.engineer.email, ctx.users.engineer.password);
+	const fd = new FormData();
+	fd.set('title', 'Route table image');
+	fd.set('kind', 'other');
+	fd.set('requirementIds', String(r.id));
+	fd.set('file', new Blob([new Uint8Array(png())], { type: 'image/png' }), 'route-table.png');
+	const res = await engineer.request(`/api/v1/projects/${ctx.projectKey}/evidence`, {
+		method: 'POST',
+		body: fd
+	});
+	if (res.status !== 201)
+		throw new Error(`route-table evidence upload failed: ${res.status} ${await res.text()}`);
+	const rec = await res.json();
+	return { evidenceId: String(rec.id) };
+}
