@@ -1,0 +1,62 @@
+import { COMBINED_STATES, type CombinedState } from '../../trace/states';
+import { db } from '../db';
+import { matrixAll, type MatrixRow } from '../trace/service';
+import { points, upsertToday, type CoveragePoint } from './repo';
+
+// The coverage dashboard: how many requirements are in each combined state, by level and by assurance
+// level, what blocks verification, and a daily trend. Today's point is written whenever the dashboard
+// is computed (page load), so the trend grows from the days someone looked; retired requirements are
+// left out of every count.
+
+export type StateCounts = Record<CombinedState, number>;
+
+export interface Coverage {
+	total: number;
+	states: StateCounts;
+	byLevel: { key: string; total: number; states: StateCounts }[];
+	byAssurance: { key: string; total: number; states: StateCounts }[];
+	blocking: { failing: number; pending: number; noEvidence: number; rejectedEvidence: number; unreviewedEvidence: number };
+	trend: CoveragePoint[];
+}
+
+const zero = (): StateCounts => Object.fromEntries(COMBINED_STATES.map((s) => [s, 0])) as StateCounts;
+
+function groupBy(rows: MatrixRow[], key: (r: MatrixRow) => string, order: string[]) {
+	const m = new Map<string, { key: string; total: number; states: StateCounts }>(
+		order.map((k) => [k, { key: k, total: 0, states: zero() }])
+	);
+	for (const r of rows) {
+		const k = key(r);
+		if (!m.has(k)) m.set(k, { key: k, total: 0, states: zero() });
+		const g = m.get(k)!;
+		g.total++;
+		g.states[r.state]++;
+	}
+	return [...m.values()];
+}
+
+export function coverageOf(all: MatrixRow[]): Omit<Coverage, 'trend'> {
+	const rows = all.filter((r) => r.status !== 'retired');
+	const states = zero();
+	for (const r of rows) states[r.state]++;
+	return {
+		total: rows.length,
+		states,
+		byLevel: groupBy(rows, (r) => r.level, ['system', 'subsystem', 'loop']),
+		byAssurance: groupBy(rows, (r) => r.assuranceLevel, ['A', 'B', 'C', 'D', 'E']),
+		blocking: {
+			failing: rows.filter((r) => r.state === 'failing').length,
+			pending: rows.filter((r) => r.state === 'pending').length,
+			noEvidence: rows.filter((r) => r.openItems.includes('no-evidence')).length,
+			rejectedEvidence: rows.filter((r) => r.openItems.includes('rejected')).length,
+			unreviewedEvidence: rows.filter((r) => r.openItems.includes('unreviewed')).length
+		}
+	};
+}
+
+export async function coverage(projectId: number, days = 90): Promise<Coverage> {
+	const rows = await matrixAll(projectId, { sort: 'identifier', dir: 'asc', limit: 100, offset: 0 });
+	const c = coverageOf(rows);
+	await upsertToday(db(), projectId, { total: c.total, states: c.states });
+	return { ...c, trend: await points(db(), projectId, days) };
+}

@@ -1,0 +1,290 @@
+import ExcelJS from 'exceljs';
+import { PassThrough, Readable, type Writable } from 'node:stream';
+import { CAUTION_TEXT, CAUTION_TITLE } from '../../caution';
+import {
+	ANALYSIS_LABELS,
+	COMBINED_LABELS,
+	COMBINED_SYMBOLS,
+	LEVEL_LABELS,
+	OPEN_ITEM_LABELS,
+	type OpenItem
+} from '../../trace/states';
+import type { MatrixRow, Snapshot, SnapshotRequirement } from './service';
+
+// The spreadsheet and CSV exports of a snapshot (the current state or a baseline's manifest). The
+// workbook is written with exceljs's streaming writer straight into the response: rows are committed
+// as they are written, so memory holds the snapshot, not the workbook.
+
+export interface Cover {
+	exportedAt: Date;
+	exportedBy: string;
+	baseline: {
+		number: number;
+		label: string;
+		manifestHash: string;
+		frozenAt: string;
+		frozenBy: string;
+	} | null;
+	filters?: string;
+}
+
+type Cell = string | number | null;
+interface SheetColumn<T> {
+	header: string;
+	width: number;
+	value: (row: T) => Cell;
+}
+
+export function verdictWords(status: string | null | undefined, verdict: string | null | undefined): string {
+	if (status === 'error') return 'engine error';
+	if (verdict === 'pass') return 'pass (certified)';
+	if (verdict === 'fail') return 'fail';
+	if (verdict === 'inconclusive') return 'inconclusive';
+	return '';
+}
+
+export const stateWords = (r: MatrixRow) => `${COMBINED_SYMBOLS[r.state]} ${COMBINED_LABELS[r.state]}`;
+export const openItemWords = (items: OpenItem[]) => items.map((i) => OPEN_ITEM_LABELS[i]).join('; ');
+const finite = (x: number | null | undefined): Cell =>
+	x === null || x === undefined || !Number.isFinite(x) ? (x === Infinity ? 'infinity' : null) : x;
+
+export const MATRIX_COLUMNS: SheetColumn<MatrixRow>[] = [
+	{ header: 'Identifier', width: 16, value: (r) => r.identifier },
+	{ header: 'Title', width: 40, value: (r) => r.title },
+	{ header: 'Level', width: 11, value: (r) => LEVEL_LABELS[r.level] ?? r.level },
+	{ header: 'Assurance level', width: 10, value: (r) => r.assuranceLevel },
+	{ header: 'Status', width: 11, value: (r) => r.status },
+	{ header: 'Verification methods', width: 22, value: (r) => r.methods.join(', ') },
+	{ header: 'Owner', width: 18, value: (r) => r.owner?.name ?? '' },
+	{ header: 'Derived from', width: 18, value: (r) => r.parents.join(', ') },
+	{ header: 'Derived requirements', width: 22, value: (r) => r.children.join(', ') },
+	{ header: 'Model', width: 22, value: (r) => r.model?.name ?? '' },
+	{ header: 'Model version', width: 9, value: (r) => r.model?.version ?? null },
+	{ header: 'Model SHA-256', width: 20, value: (r) => r.model?.hash ?? '' },
+	{ header: 'State', width: 30, value: stateWords },
+	{ header: 'Analysis state', width: 20, value: (r) => ANALYSIS_LABELS[r.analysisState] },
+	{
+		header: 'Latest verdict',
+		width: 16,
+		value: (r) => verdictWords(r.latestRun?.status, r.latestRun?.verdict)
+	},
+	{ header: 'Certified', width: 11, value: (r) => finite(r.latestRun?.numbers.certified) },
+	{ header: 'Required', width: 11, value: (r) => finite(r.latestRun?.numbers.required) },
+	{ header: 'Numbers', width: 44, value: (r) => r.latestRun?.numbers.text ?? '' },
+	{ header: 'Evidence', width: 9, value: (r) => r.evidence.count },
+	{ header: 'Accepted evidence', width: 10, value: (r) => r.evidence.accepted },
+	{ header: 'Open items', width: 44, value: (r) => openItemWords(r.openItems) },
+	{ header: 'Last change (UTC)', width: 24, value: (r) => r.lastChange }
+];
+
+const REQUIREMENT_COLUMNS: SheetColumn<SnapshotRequirement>[] = [
+	{ header: 'Identifier', width: 16, value: (r) => r.identifier },
+	{ header: 'Revision', width: 9, value: (r) => r.revision },
+	{ header: 'Title', width: 40, value: (r) => r.title },
+	{ header: 'Statement', width: 80, value: (r) => r.statement },
+	{ header: 'Rationale', width: 60, value: (r) => r.rationale },
+	{ header: 'Level', width: 11, value: (r) => LEVEL_LABELS[r.level] ?? r.level },
+	{ header: 'Assurance level', width: 10, value: (r) => r.assuranceLevel },
+	{ header: 'Verification methods', width: 22, value: (r) => r.methods.join(', ') },
+	{ header: 'Status', width: 11, value: (r) => r.status },
+	{ header: 'Owner', width: 18, value: (r) => r.owner?.name ?? '' },
+	{ header: 'Specification', width: 36, value: (r) => (r.spec ? `v${r.spec.version}: ${r.spec.check}` : '') },
+	{ header: 'Revision SHA-256', width: 20, value: (r) => r.contentHash }
+];
+
+type AnalysisLine = SnapshotRequirement & { latestRun: NonNullable<SnapshotRequirement['latestRun']> };
+const ANALYSIS_COLUMNS: SheetColumn<AnalysisLine>[] = [
+	{ header: 'Identifier', width: 16, value: (r) => r.identifier },
+	{ header: 'Run', width: 8, value: (r) => r.latestRun.id },
+	{ header: 'Requirement revision', width: 10, value: (r) => r.latestRun.requirementRevision },
+	{ header: 'Model', width: 22, value: (r) => r.model?.name ?? '' },
+	{ header: 'Model version', width: 9, value: (r) => r.latestRun.modelVersion },
+	{ header: 'Model SHA-256', width: 20, value: (r) => r.latestRun.modelHash },
+	{ header: 'Engine version', width: 10, value: (r) => r.latestRun.engineVersion },
+	{ header: 'Specification', width: 36, value: (r) => `v${r.latestRun.specVersion}: ${r.latestRun.check}` },
+	{ header: 'Verdict', width: 16, value: (r) => verdictWords(r.latestRun.status, r.latestRun.verdict) },
+	{ header: 'Certified', width: 11, value: (r) => finite(r.latestRun.numbers.certified) },
+	{ header: 'Required', width: 11, value: (r) => finite(r.latestRun.numbers.required) },
+	{ header: 'Numbers', width: 44, value: (r) => r.latestRun.numbers.text },
+	{ header: 'Worst operating point', width: 22, value: (r) => r.latestRun.worstPoint ?? '' },
+	{ header: 'Finished (UTC)', width: 24, value: (r) => r.latestRun.finishedAt ?? '' },
+	{ header: 'Inputs current', width: 9, value: (r) => (r.latestRun.stale ? 'no (re-run due)' : 'yes') },
+	{ header: 'Output SHA-256', width: 20, value: (r) => r.latestRun.outputHash ?? '' }
+];
+
+type EvidenceLine = Snapshot['evidence'][number];
+const EVIDENCE_COLUMNS: SheetColumn<EvidenceLine>[] = [
+	{ header: 'Evidence', width: 9, value: (e) => e.evidenceId },
+	{ header: 'Revision', width: 9, value: (e) => e.revision },
+	{ header: 'Title', width: 36, value: (e) => e.title },
+	{ header: 'Kind', width: 18, value: (e) => e.kind },
+	{ header: 'Method', width: 13, value: (e) => e.method },
+	{ header: 'File', width: 30, value: (e) => e.file },
+	{ header: 'Size (bytes)', width: 12, value: (e) => e.sizeBytes },
+	{ header: 'SHA-256', width: 20, value: (e) => e.sha256 },
+	{ header: 'Uploaded by', width: 20, value: (e) => e.uploadedBy },
+	{ header: 'Uploaded (UTC)', width: 24, value: (e) => e.uploadedAt },
+	{ header: 'Review decision', width: 16, value: (e) => e.review?.decision ?? 'awaiting review' },
+	{ header: 'Reviewer', width: 20, value: (e) => e.review?.reviewer ?? '' },
+	{ header: 'Reviewed (UTC)', width: 24, value: (e) => e.review?.reviewedAt ?? '' },
+	{ header: 'Review comment', width: 40, value: (e) => e.review?.comment ?? '' },
+	{ header: 'Verifies', width: 24, value: (e) => e.requirements.join(', ') }
+];
+
+interface OpenLine {
+	r: MatrixRow;
+	item: OpenItem;
+}
+const OPEN_COLUMNS: SheetColumn<OpenLine>[] = [
+	{ header: 'Identifier', width: 16, value: (o) => o.r.identifier },
+	{ header: 'Title', width: 40, value: (o) => o.r.title },
+	{ header: 'Open item', width: 44, value: (o) => OPEN_ITEM_LABELS[o.item] },
+	{ header: 'State', width: 30, value: (o) => stateWords(o.r) },
+	{ header: 'Owner', width: 18, value: (o) => o.r.owner?.name ?? '' }
+];
+
+export const SHEET_NAMES = [
+	'Cover',
+	'Trace matrix',
+	'Requirements',
+	'Analyses',
+	'Evidence',
+	'Open items'
+] as const;
+
+function table<T>(
+	wb: ExcelJS.stream.xlsx.WorkbookWriter,
+	name: string,
+	columns: SheetColumn<T>[],
+	rows: Iterable<T>
+) {
+	const ws = wb.addWorksheet(name, { views: [{ state: 'frozen', ySplit: 1 }] });
+	ws.columns = columns.map((c) => ({ header: c.header, width: c.width }));
+	ws.getRow(1).font = { bold: true };
+	ws.autoFilter = { from: { row: 1, column: 1 }, to: { row: 1, column: columns.length } };
+	// The header row is written by the columns setter; commit it, then every data row as it is added.
+	ws.getRow(1).commit();
+	for (const r of rows) ws.addRow(columns.map((c) => c.value(r))).commit();
+	ws.commit();
+}
+
+function* openLines(rows: MatrixRow[]): Generator<OpenLine> {
+	for (const r of rows) for (const item of r.openItems) yield { r, item };
+}
+
+/** Write the workbook of a snapshot into a stream; resolves when the last byte is written. */
+export async function writeWorkbook(snap: Snapshot, cover: Cover, out: Writable): Promise<void> {
+	const wb = new ExcelJS.stream.xlsx.WorkbookWriter({
+		stream: out,
+		useStyles: true,
+		useSharedStrings: false
+	});
+	wb.creator = 'Loopwarden';
+	wb.created = cover.exportedAt;
+
+	const ws = wb.addWorksheet('Cover');
+	ws.columns = [
+		{ header: 'Item', width: 22 },
+		{ header: 'Value', width: 100 }
+	];
+	ws.getRow(1).font = { bold: true };
+	const lines: [string, string | number][] = [
+		['Project', `${snap.project.key} ${snap.project.name}`],
+		['Exported (UTC)', cover.exportedAt.toISOString()],
+		['Exported by', cover.exportedBy],
+		[
+			'Baseline',
+			cover.baseline
+				? `#${cover.baseline.number} ${cover.baseline.label}`
+				: 'none: the current state of the project'
+		],
+		...(cover.baseline
+			? ([
+					['Baseline frozen (UTC)', cover.baseline.frozenAt],
+					['Baseline frozen by', cover.baseline.frozenBy],
+					['Manifest SHA-256', cover.baseline.manifestHash]
+				] as [string, string][])
+			: []),
+		['Filters', cover.filters || 'none (every requirement)'],
+		['Engine version', snap.engineVersion],
+		['Requirements', snap.requirements.length],
+		['Caution', CAUTION_TITLE],
+		['', CAUTION_TEXT]
+	];
+	for (const l of lines) {
+		const row = ws.addRow(l);
+		row.getCell(2).alignment = { wrapText: true, vertical: 'top' };
+		row.commit();
+	}
+	ws.commit();
+
+	table(wb, 'Trace matrix', MATRIX_COLUMNS, snap.requirements);
+	table(wb, 'Requirements', REQUIREMENT_COLUMNS, snap.requirements);
+	table(
+		wb,
+		'Analyses',
+		ANALYSIS_COLUMNS,
+		snap.requirements.filter((r): r is AnalysisLine => r.latestRun !== null)
+	);
+	table(wb, 'Evidence', EVIDENCE_COLUMNS, snap.evidence);
+	table(wb, 'Open items', OPEN_COLUMNS, openLines(snap.requirements));
+	await wb.commit();
+}
+
+/** A web stream of the workbook, for a Response body. Errors end the stream (the client sees a cut file). */
+export function workbookStream(snap: Snapshot, cover: Cover): ReadableStream<Uint8Array> {
+	const pass = new PassThrough();
+	writeWorkbook(snap, cover, pass).catch((e) => {
+		console.error('[trace] workbook export failed:', e);
+		pass.destroy(e as Error);
+	});
+	return Readable.toWeb(pass) as ReadableStream<Uint8Array>;
+}
+
+function csvCell(v: Cell): string {
+	if (v === null) return '';
+	const s = String(v);
+	return /[",\r\n]/.test(s) || /^[=+\-@]/.test(s)
+		? `"${(/^[=+\-@]/.test(s) ? "'" : '') + s.replace(/"/g, '""')}"`
+		: s;
+}
+
+/** The matrix sheet as CSV (RFC 4180, CRLF), streamed row by row. */
+export function csvStream(rows: MatrixRow[]): ReadableStream<Uint8Array> {
+	const enc = new TextEncoder();
+	let i = -1;
+	return new ReadableStream({
+		pull(controller) {
+			const chunk: string[] = [];
+			if (i === -1) {
+				chunk.push(MATRIX_COLUMNS.map((c) => csvCell(c.header)).join(',') + '\r\n');
+				i = 0;
+			}
+			const end = Math.min(rows.length, i + 500);
+			for (; i < end; i++)
+				chunk.push(MATRIX_COLUMNS.map((c) => csvCell(c.value(rows[i]))).join(',') + '\r\n');
+			controller.enqueue(enc.encode(chunk.join('')));
+			if (i >= rows.length) controller.close();
+		}
+	});
+}
+
+/** Rows as JSON lines (one object per line), streamed in chunks. */
+export function jsonLinesStream(rows: unknown[], head?: unknown): ReadableStream<Uint8Array> {
+	const enc = new TextEncoder();
+	let i = head === undefined ? 0 : -1;
+	return new ReadableStream({
+		pull(controller) {
+			if (i === -1) {
+				controller.enqueue(enc.encode(JSON.stringify(head) + '\n'));
+				i = 0;
+				return;
+			}
+			const end = Math.min(rows.length, i + 250);
+			const parts: string[] = [];
+			for (; i < end; i++) parts.push(JSON.stringify(rows[i]));
+			if (parts.length) controller.enqueue(enc.encode(parts.join('\n') + '\n'));
+			if (i >= rows.length) controller.close();
+		}
+	});
+}

@@ -1,0 +1,408 @@
+import { ENGINE_VERSION } from '../../stability/index';
+import { combine, type AnalysisStateName, type CombinedState, type OpenItem } from '../../trace/states';
+import { recordEvent, type Actor } from '../audit';
+import { db, type Db } from '../db';
+import * as repo from './repo';
+import type { MatrixQuery } from './schema';
+
+// The trace matrix: one row per requirement with its links, the model version in force, the latest
+// analysis and its certified numbers, evidence counts, the combined state and what is still open.
+// The same rows, with the texts, analyses and evidence, form a "snapshot": what the exports write and
+// what a baseline freezes (src/lib/server/baselines).
+
+export interface CertifiedNumbers {
+	/** The certified figure the requirement is judged on (largest certified upper bound, margin ...). */
+	certified: number | null;
+	/** What the specification asks of it (with the required margin applied), when it is a number. */
+	required: number | null;
+	/** In words, e.g. "certified upper bound 2.31 vs required 1.995 x 1.2 = 2.394". */
+	text: string;
+}
+
+export interface LatestRun {
+	id: number;
+	status: string;
+	verdict: string | null;
+	/** The run's inputs are no longer the current ones (a newer revision, specification or model version). */
+	stale: boolean;
+	numbers: CertifiedNumbers;
+	worstPoint: string | null;
+	finishedAt: string | null;
+	modelVersionId: number;
+	modelVersion: number;
+	modelHash: string;
+	engineVersion: string;
+	specVersion: number;
+	check: string;
+	outputHash: string | null;
+	requirementRevision: number;
+}
+
+export interface MatrixRow {
+	id: number;
+	identifier: string;
+	revision: number;
+	title: string;
+	level: string;
+	assuranceLevel: string;
+	status: string;
+	methods: string[];
+	owner: { id: number; name: string } | null;
+	parents: string[];
+	children: string[];
+	model: {
+		id: number;
+		name: string;
+		versionId: number | null;
+		version: number | null;
+		hash: string | null;
+	} | null;
+	analysisState: AnalysisStateName;
+	latestRun: LatestRun | null;
+	pendingRuns: number;
+	evidence: { count: number; accepted: number; rejected: number; unreviewed: number };
+	state: CombinedState;
+	openItems: OpenItem[];
+	lastChange: string;
+}
+
+/** A matrix row with the texts and hashes a baseline keeps. */
+export interface SnapshotRequirement extends MatrixRow {
+	statement: string;
+	rationale: string;
+	contentHash: string;
+	spec: { id: number; version: number; hash: string; check: string; requiredMargin: number | null } | null;
+}
+
+export interface SnapshotEvidence {
+	evidenceId: number;
+	revision: number;
+	fileId: number;
+	title: string;
+	kind: string;
+	method: string;
+	file: string;
+	sizeBytes: number;
+	sha256: string;
+	uploadedBy: string;
+	uploadedAt: string;
+	review: { decision: string; comment: string; reviewer: string; reviewedAt: string } | null;
+	requirements: string[];
+}
+
+export interface Snapshot {
+	format: 'loopwarden-snapshot/1';
+	project: { key: string; name: string };
+	engineVersion: string;
+	requirements: SnapshotRequirement[];
+	links: { child: string; parent: string; childRevision: number; parentRevision: number }[];
+	modelVersions: { id: number; model: string; version: number; contentHash: string }[];
+	evidence: SnapshotEvidence[];
+}
+
+const iso = (d: Date | string | null | undefined) => (d ? new Date(d).toISOString() : null);
+
+function num(v: unknown): number | null {
+	if (typeof v === 'number' && Number.isFinite(v)) return v;
+	if (v === 'Infinity') return Infinity;
+	if (v === '-Infinity') return -Infinity;
+	return null;
+}
+
+/** Four significant figures, as people read certified bounds. */
+export function fmt(x: number | null | undefined): string {
+	if (x === null || x === undefined || Number.isNaN(x)) return '–';
+	if (x === Infinity) return '∞';
+	if (x === -Infinity) return '−∞';
+	return Number(x.toPrecision(4)).toString();
+}
+
+/** The check of a specification in a few words. */
+export function checkText(check: Record<string, unknown> | null | undefined): string {
+	if (!check) return '';
+	const s = check.sector as unknown[] | undefined;
+	const sector = s ? `[${fmt(num(s[0]))}, ${fmt(num(s[1]) ?? Infinity)}]` : '';
+	switch (check.type) {
+		case 'circle':
+			return `circle criterion, sector ${sector}`;
+		case 'popov':
+			return `Popov criterion, sector ${sector}`;
+		case 'positive-real':
+			return 'positive-real';
+		case 'max-sector':
+			return `largest sector from ${fmt(num(check.lower))}`;
+		case 'margins':
+			return `margins, GM >= ${fmt(num(check.minGainMarginDb))} dB, PM >= ${fmt(num(check.minPhaseMarginDeg))} deg`;
+		default:
+			return String(check.type ?? '');
+	}
+}
+
+/**
+ * The certified figure against the required one. For sector checks the figure is the largest
+ * certified upper bound (result.threshold) against the specification's k2, raised by the required
+ * margin (k2 x (1 + margin)); for margin checks the gain and phase margins against their minimums.
+ */
+export function certifiedNumbers(
+	check: Record<string, unknown> | null | undefined,
+	result: Record<string, unknown> | null | undefined,
+	requiredMargin: number | null | undefined
+): CertifiedNumbers {
+	if (!result) return { certified: null, required: null, text: '' };
+	const numbers = (result.numbers ?? {}) as Record<string, unknown>;
+	if (check?.type === 'margins') {
+		const gm = num(numbers.gainMarginDb);
+		const pm = num(numbers.phaseMarginDeg);
+		const parts = [`GM ${fmt(gm)} dB`];
+		if (check.minGainMarginDb !== undefined) parts[0] += ` (min ${fmt(num(check.minGainMarginDb))})`;
+		parts.push(
+			`PM ${fmt(pm)} deg` +
+				(check.minPhaseMarginDeg !== undefined ? ` (min ${fmt(num(check.minPhaseMarginDeg))})` : '')
+		);
+		return { certified: gm, required: num(check.minGainMarginDb), text: parts.join(', ') };
+	}
+	if (check?.type === 'positive-real') {
+		return {
+			certified: num(result.margin),
+			required: null,
+			text: `class ${String(result.class ?? 'neither')}`
+		};
+	}
+	const sector = check?.sector as unknown[] | undefined;
+	const k2 = sector ? num(sector[1]) : null;
+	const required = k2 === null ? null : requiredMargin ? k2 * (1 + requiredMargin) : k2;
+	const bound = num(result.threshold);
+	const reqText =
+		k2 === null
+			? ''
+			: requiredMargin
+				? `required ${fmt(k2)} x ${fmt(1 + requiredMargin)} = ${fmt(required)}`
+				: `required ${fmt(k2)}`;
+	if (bound !== null) {
+		return {
+			certified: bound,
+			required,
+			text: `certified upper bound ${fmt(bound)}${reqText ? ' vs ' + reqText : ''}`
+		};
+	}
+	const margin = num(result.margin);
+	return {
+		certified: null,
+		required,
+		text: [
+			sector ? `sector [${fmt(num(sector[0]))}, ${fmt(k2 ?? Infinity)}]` : '',
+			margin !== null ? `min Re Z ${fmt(margin)}` : ''
+		]
+			.filter(Boolean)
+			.join(', ')
+	};
+}
+
+export function openItemsOf(r: repo.MatrixDbRow): OpenItem[] {
+	if (r.status === 'retired') return [];
+	const out: OpenItem[] = [];
+	if (r.has_tbx) out.push('tbd');
+	if (r.analysis_state === 'pending' || r.pending_runs > 0) out.push('pending');
+	if (r.analysis_state === 'failing') out.push('failing');
+	if (r.analysis_state === 'error') out.push('analysis-error');
+	if (r.analysis_state === 'inconclusive') out.push('inconclusive');
+	if (r.evidence_rejected > 0) out.push('rejected');
+	if (r.evidence_unreviewed > 0) out.push('unreviewed');
+	if (r.methods.includes('test') && r.evidence_accepted === 0) out.push('no-evidence');
+	if (r.methods.includes('analysis') && r.spec_id === null) out.push('no-spec');
+	return out;
+}
+
+function toRow(r: repo.MatrixDbRow): MatrixRow {
+	const analysisState = r.analysis_state as AnalysisStateName;
+	return {
+		id: Number(r.id),
+		identifier: r.identifier,
+		revision: r.revision,
+		title: r.title,
+		level: r.level,
+		assuranceLevel: r.assurance_level,
+		status: r.status,
+		methods: r.methods,
+		owner: r.owner_id ? { id: Number(r.owner_id), name: r.owner_name ?? '' } : null,
+		parents: r.parents ?? [],
+		children: r.children ?? [],
+		model: r.model_id
+			? {
+					id: Number(r.model_id),
+					name: r.model_name ?? '',
+					versionId: r.model_version_id === null ? null : Number(r.model_version_id),
+					version: r.model_version,
+					hash: r.model_hash
+				}
+			: null,
+		analysisState,
+		latestRun: r.latest_run_id
+			? {
+					id: Number(r.latest_run_id),
+					status: r.latest_status ?? '',
+					verdict: r.latest_verdict,
+					stale: r.current_run_id === null || Number(r.current_run_id) !== Number(r.latest_run_id),
+					numbers: certifiedNumbers(r.latest_spec_check, r.latest_result, r.required_margin),
+					worstPoint: r.latest_worst_point,
+					finishedAt: iso(r.latest_finished_at),
+					modelVersionId: Number(r.latest_model_version_id),
+					modelVersion: Number(r.latest_model_version),
+					modelHash: r.latest_model_hash ?? '',
+					engineVersion: r.latest_engine_version ?? '',
+					specVersion: Number(r.latest_spec_version),
+					check: checkText(r.latest_spec_check),
+					outputHash: r.latest_output_hash,
+					requirementRevision: Number(r.latest_requirement_revision)
+				}
+			: null,
+		pendingRuns: r.pending_runs,
+		evidence: {
+			count: r.evidence_count,
+			accepted: r.evidence_accepted,
+			rejected: r.evidence_rejected,
+			unreviewed: r.evidence_unreviewed
+		},
+		state: r.combined_state as CombinedState,
+		openItems: openItemsOf(r),
+		lastChange: iso(r.last_change) ?? ''
+	};
+}
+
+function toSnapshotRow(r: repo.MatrixDbRow): SnapshotRequirement {
+	return {
+		...toRow(r),
+		statement: r.statement,
+		rationale: r.rationale,
+		contentHash: r.content_hash,
+		spec: r.spec_id
+			? {
+					id: Number(r.spec_id),
+					version: Number(r.spec_version),
+					hash: r.spec_hash ?? '',
+					check: checkText(r.check),
+					requiredMargin: r.required_margin
+				}
+			: null
+	};
+}
+
+// Guard against drift between the SQL and combine(): the SQL decides filters, combine() documents.
+function checkCombined(r: repo.MatrixDbRow) {
+	const expected = combine(r.analysis_state as AnalysisStateName, r.evidence_accepted);
+	if (expected !== r.combined_state)
+		throw new Error(`combined state of ${r.identifier}: SQL ${r.combined_state}, rule ${expected}`);
+}
+
+export interface MatrixPage {
+	rows: MatrixRow[];
+	total: number;
+	offset: number;
+	limit: number;
+	pending: number;
+}
+
+/** One page of the matrix, filtered and sorted in the database. */
+export async function matrixPage(projectId: number, q: MatrixQuery): Promise<MatrixPage> {
+	const rows = await repo.matrix(db(), projectId, q, q.limit, q.offset);
+	rows.forEach(checkCombined);
+	return {
+		rows: rows.map(toRow),
+		total: rows[0]?.total ?? 0,
+		offset: q.offset,
+		limit: q.limit,
+		pending: rows.filter((r) => r.analysis_state === 'pending').length
+	};
+}
+
+/** Every row that passes the filters (for streaming and exports). */
+export async function matrixAll(projectId: number, q: MatrixQuery, conn: Db = db()): Promise<MatrixRow[]> {
+	const rows = await repo.matrix(conn, projectId, q, null);
+	rows.forEach(checkCombined);
+	return rows.map(toRow);
+}
+
+export const owners = (projectId: number) => repo.owners(db(), projectId);
+
+/** Everything the exports write and baselines freeze, read in one repeatable-read transaction. */
+export async function snapshot(projectId: number, q?: MatrixQuery, conn?: Db): Promise<Snapshot> {
+	const work = async (trx: Db): Promise<Snapshot> => {
+		const project = await repo.projectById(trx, projectId);
+		if (!project) throw new Error(`project ${projectId} not found`);
+		const query = q ?? ({ sort: 'identifier', dir: 'asc', limit: 100, offset: 0 } as MatrixQuery);
+		const rows = await repo.matrix(trx, projectId, query, null);
+		rows.forEach(checkCombined);
+		const ev = await repo.evidence(trx, projectId);
+		const links = await repo.links(trx, projectId);
+		const mvs = await repo.modelVersions(trx, projectId);
+		const included = new Set(rows.map((r) => r.identifier));
+		return {
+			format: 'loopwarden-snapshot/1',
+			project: { key: project.key, name: project.name },
+			engineVersion: ENGINE_VERSION,
+			requirements: rows.map(toSnapshotRow),
+			links: links
+				.filter((l) => included.has(l.child))
+				.map((l) => ({
+					child: l.child,
+					parent: l.parent,
+					childRevision: l.child_revision,
+					parentRevision: l.parent_revision
+				})),
+			modelVersions: mvs.map((m) => ({
+				id: Number(m.id),
+				model: m.model,
+				version: m.version,
+				contentHash: m.content_hash
+			})),
+			evidence: ev
+				.filter((e) => !q || e.requirements.some((id) => included.has(id)))
+				.map((e) => ({
+					evidenceId: Number(e.evidence_id),
+					revision: e.revision,
+					fileId: Number(e.file_id),
+					title: e.title,
+					kind: e.kind,
+					method: e.method,
+					file: e.original_name,
+					sizeBytes: Number(e.size_bytes),
+					sha256: e.sha256,
+					uploadedBy: e.uploaded_by_label,
+					uploadedAt: iso(e.uploaded_at) ?? '',
+					review: e.decision
+						? {
+								decision: e.decision,
+								comment: e.comment ?? '',
+								reviewer: e.reviewer_label ?? '',
+								reviewedAt: iso(e.reviewed_at) ?? ''
+							}
+						: null,
+					requirements: e.requirements
+				}))
+		};
+	};
+	if (conn) return work(conn);
+	return db().transaction(work, { isolationLevel: 'repeatable read', readOnly: true });
+}
+
+/** Record an export in the audit trail. */
+export async function recordExport(
+	actor: Actor,
+	projectId: number,
+	what: {
+		format: 'xlsx' | 'csv' | 'json';
+		rows: number;
+		filters?: Record<string, unknown>;
+		baselineId?: number | null;
+	}
+): Promise<void> {
+	await db().transaction(async (trx) => {
+		await recordEvent(trx, actor, {
+			projectId,
+			action: what.baselineId ? 'baseline.export' : 'trace.export',
+			subjectType: what.baselineId ? 'baseline' : 'project',
+			subjectId: what.baselineId ?? projectId,
+			after: { format: what.format, rows: what.rows, filters: what.filters ?? {} }
+		});
+	});
+}

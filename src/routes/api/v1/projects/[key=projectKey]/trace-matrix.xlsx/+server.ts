@@ -1,0 +1,35 @@
+import { actorOf } from '$lib/server/audit';
+import { endpoint } from '$lib/server/api';
+import { requireRole } from '$lib/server/auth';
+import { parseOrThrow } from '$lib/server/errors';
+import { workbookStream } from '$lib/server/trace/export';
+import { filtersText, matrixQuery, paramsOf } from '$lib/server/trace/schema';
+import { recordExport, snapshot } from '$lib/server/trace/service';
+import type { RequestHandler } from './$types';
+
+// The trace matrix workbook (cover, matrix, requirements, analyses, evidence, open items), streamed.
+export const GET = endpoint(async (event) => {
+	const { project } = await requireRole(event, event.params.key!);
+	const q = parseOrThrow(matrixQuery, paramsOf(event.url));
+	const snap = await snapshot(project.id, q);
+	const filters = filtersText(q);
+	await recordExport(actorOf(event.locals), project.id, {
+		format: 'xlsx',
+		rows: snap.requirements.length,
+		filters: { text: filters }
+	});
+	const stamp = new Date().toISOString().slice(0, 10);
+	const body = workbookStream(snap, {
+		exportedAt: new Date(),
+		exportedBy: event.locals.user!.email,
+		baseline: null,
+		filters
+	});
+	return new Response(body, {
+		headers: {
+			'content-type': 'application/vnd.openxmlformats-officedocument.spreadsheetml.sheet',
+			'content-disposition': `attachment; filename="${project.key}-trace-matrix-${stamp}.xlsx"`,
+			'cache-control': 'no-store'
+		}
+	});
+}) satisfies RequestHandler;

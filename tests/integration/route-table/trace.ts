@@ -1,0 +1,83 @@
+import { createHash } from 'node:crypto';
+import { testDb } from '../../factories';
+import { membersOnly, rolesOnly, type RouteCase } from './types';
+import type { PrepareContext } from '../authorization.test';
+
+// Trace matrix, exports, baselines and coverage: every member reads and exports; certifiers (and
+// admins) freeze baselines; outsiders are refused. Freeze bodies have an empty label (400), so the
+// table creates no baseline.
+
+export const cases: RouteCase[] = [
+	{
+		route: '/api/v1/projects/[key=projectKey]/trace-matrix',
+		method: 'GET',
+		path: '/api/v1/projects/{key}/trace-matrix',
+		expect: membersOnly(401)
+	},
+	{
+		route: '/api/v1/projects/[key=projectKey]/trace-matrix.xlsx',
+		method: 'GET',
+		path: '/api/v1/projects/{key}/trace-matrix.xlsx',
+		expect: membersOnly(401)
+	},
+	{
+		route: '/api/v1/projects/[key=projectKey]/trace-matrix.csv',
+		method: 'GET',
+		path: '/api/v1/projects/{key}/trace-matrix.csv',
+		expect: membersOnly(401)
+	},
+	{
+		route: '/api/v1/projects/[key=projectKey]/baselines',
+		method: 'GET',
+		path: '/api/v1/projects/{key}/baselines',
+		expect: membersOnly(401)
+	},
+	{
+		route: '/api/v1/projects/[key=projectKey]/baselines',
+		method: 'POST',
+		path: '/api/v1/projects/{key}/baselines',
+		body: { label: '' },
+		expect: rolesOnly(['certifier'], 401)
+	},
+	{
+		route: '/api/v1/projects/[key=projectKey]/baselines/[id=id]',
+		method: 'GET',
+		path: '/api/v1/projects/{key}/baselines/{baselineId}',
+		expect: membersOnly(401)
+	},
+	{
+		route: '/api/v1/projects/[key=projectKey]/baselines/[id=id]/trace-matrix.xlsx',
+		method: 'GET',
+		path: '/api/v1/projects/{key}/baselines/{baselineId}/trace-matrix.xlsx',
+		expect: membersOnly(401)
+	}
+];
+
+/** One baseline in the team project (inserted directly: an empty manifest is a valid frozen state). */
+export async function prepare(ctx: PrepareContext): Promise<Record<string, string>> {
+	const db = testDb();
+	const p = await db('projects').where({ key: ctx.projectKey }).first('id', 'key', 'name');
+	const manifest = {
+		format: 'loopwarden-snapshot/1',
+		project: { key: p.key, name: p.name },
+		engineVersion: 'test',
+		requirements: [],
+		links: [],
+		modelVersions: [],
+		evidence: []
+	};
+	const text = JSON.stringify(manifest);
+	const [b] = await db('baselines')
+		.insert({
+			project_id: p.id,
+			number: 1,
+			label: 'Route table baseline',
+			manifest: text,
+			manifest_hash: createHash('sha256').update(text).digest('hex'),
+			engine_version: 'test',
+			requirement_count: 0,
+			created_by_label: 'route table'
+		})
+		.returning('id');
+	return { baselineId: String(b.id) };
+}
