@@ -4,6 +4,9 @@ import { sequence } from '@sveltejs/kit/hooks';
 import { authHandle, userFromSession } from '$lib/server/auth';
 import { isDatabaseUnavailable } from '$lib/server/db';
 import { startMailLoop } from '$lib/server/mail';
+// Registers the job queue's health check.
+import '$lib/server/jobs/health';
+import { inspectBody, refusal } from '$lib/server/input-guard';
 import { userFromApiToken } from '$lib/server/tokens-auth';
 
 startMailLoop();
@@ -28,12 +31,24 @@ const identify: Handle = async ({ event, resolve }) => {
 		// The health endpoint still answers (anonymously) and names the failing check.
 		if (event.url.pathname !== '/api/v1/health') return unavailable(event.url.pathname);
 	}
-	const response = await resolve(event);
+	const problem = await inspectBody(event.request);
+	if (problem) {
+		const kind = event.url.pathname.startsWith('/api/')
+			? 'api'
+			: event.request.headers.get('x-sveltekit-action') === 'true'
+				? 'action'
+				: 'page';
+		return withHeaders(refusal(problem, kind), event.locals.requestId);
+	}
+	return withHeaders(await resolve(event), event.locals.requestId);
+};
+
+function withHeaders(response: Response, requestId: string): Response {
 	response.headers.set('X-Content-Type-Options', 'nosniff');
 	response.headers.set('Referrer-Policy', 'same-origin');
-	response.headers.set('X-Request-Id', event.locals.requestId);
+	response.headers.set('X-Request-Id', requestId);
 	return response;
-};
+}
 
 function unavailable(path: string): Response {
 	const message = 'The database is unavailable right now; nothing was changed. Try again shortly.';

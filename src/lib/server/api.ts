@@ -40,6 +40,8 @@ export function toApiResponse(e: unknown, event: RequestEvent): Response {
 		const fields = fieldErrors(e);
 		return apiError(400, 'The request has invalid fields.', { fields });
 	}
+	const pg = pgRefusal(e);
+	if (pg) return apiError(pg.status, pg.message);
 	if (isDatabaseUnavailable(e)) {
 		return apiError(503, 'The database is unavailable right now; nothing was changed. Try again shortly.');
 	}
@@ -67,5 +69,48 @@ export async function readJson(event: RequestEvent, maxBytes = 2_000_000): Promi
 		throw new ServiceError(400, `The body is not valid JSON: ${(e as Error).message}`, {
 			body: 'Not valid JSON.'
 		});
+	}
+}
+
+/**
+ * Constraint and data errors that reach an endpoint despite validation (a race between two requests,
+ * a value PostgreSQL cannot store): a refusal of the request, not a server fault. Nothing was written,
+ * since the statement failed inside its transaction.
+ */
+export function pgRefusal(e: unknown): { status: 400 | 409; message: string } | null {
+	const code = (e as { code?: string } | undefined)?.code;
+	switch (code) {
+		case '23505':
+			return {
+				status: 409,
+				message: 'That already exists (another request may have just created it); nothing was changed.'
+			};
+		case '23503':
+			return {
+				status: 409,
+				message: 'That refers to something that does not exist (any more); nothing was changed.'
+			};
+		case '23514':
+		case '23502':
+			return { status: 400, message: 'A value is outside what is allowed; nothing was changed.' };
+		case '22001':
+			return { status: 400, message: 'A value is too long; nothing was changed.' };
+		case '22003':
+			return { status: 400, message: 'A number is out of range; nothing was changed.' };
+		case '22P02':
+		case '22007':
+		case '22008':
+		case '22021':
+		case '22P05':
+			return { status: 400, message: 'A value has the wrong form; nothing was changed.' };
+		case '55P03':
+		case '40001':
+		case '40P01':
+			return {
+				status: 409,
+				message: 'Another change was being made at the same time; nothing was changed. Try again.'
+			};
+		default:
+			return null;
 	}
 }
