@@ -13,7 +13,7 @@ export const DEMO_ACCOUNTS: { email: string; name: string; role: Role | null; ad
 
 export const DEMO_PROJECT = {
 	key: 'VX7',
-	name: 'VX7 tilt-wing air taxi',
+	name: 'Tilt-wing air taxi',
 	description:
 		'An invented four-seat electric tilt-wing air taxi: elevon and wing-tilt actuators, propeller speed governors, ' +
 		'the battery DC-link converter and the yaw damper, each a loop with a nonlinear element to keep absolutely stable.'
