@@ -16,7 +16,7 @@ const config = {
 				'script-src': ['self'],
 				'style-src': ['self', 'unsafe-inline'],
 				'img-src': ['self', 'data:', 'blob:'],
-				'font-src': ['self'],
+				'font-src': ['self', 'data:'],
 				'connect-src': ['self'],
 				'object-src': ['none'],
 				'frame-src': ['self'],
