@@ -3,6 +3,8 @@ import { canonical, recordEvent, type Actor } from '../audit';
 import { db } from '../db';
 import { ServiceError, fieldErrors } from '../errors';
 import { enqueueForModelVersion } from '../analyses/queue';
+import { analysisStates } from '../analyses/state';
+import { users } from '../identity/repo';
 import {
 	models,
 	possibleOwners,
@@ -171,4 +173,27 @@ export async function publishVersion(
 		return { version: v, created: true, queued };
 	});
 	return result;
+}
+
+/** Everything the model page shows: the model, its owner, versions, and requirements with their states. */
+export async function modelOverview(projectId: number, id: number) {
+	const m = await getModel(projectId, id);
+	const [list, reqs, owner] = await Promise.all([
+		versions.list(db(), m.id),
+		requirementsUsing(db(), m.id),
+		m.owner_id ? users.byId(db(), m.owner_id) : undefined
+	]);
+	const states = await analysisStates(
+		db(),
+		reqs.map((r) => Number(r.id))
+	);
+	return {
+		model: m,
+		owner: owner ? { name: owner.display_name, email: owner.email } : null,
+		versions: list,
+		requirements: reqs.map((r) => ({
+			...r,
+			state: states.get(Number(r.id))?.state ?? ('not-analysed' as const)
+		}))
+	};
 }

@@ -1,0 +1,112 @@
+import { scaleLinear, type ScaleLinear } from 'd3-scale';
+
+// Shared geometry of the complex-plane plots: an equal-aspect frame (one unit is as long on both axes,
+// so circles stay circles) with ticks from d3-scale.
+
+export interface Frame {
+	width: number;
+	height: number;
+	pad: { left: number; right: number; top: number; bottom: number };
+	x: ScaleLinear<number, number>;
+	y: ScaleLinear<number, number>;
+	xTicks: number[];
+	yTicks: number[];
+	fmt: (v: number) => string;
+}
+
+export interface Box {
+	x0: number;
+	x1: number;
+	y0: number;
+	y1: number;
+}
+
+/** A box around the points that ignores far excursions (near a pole on the axis the curve runs off to infinity). */
+export function robustBox(xy: [number, number][], extra: Box[] = []): Box {
+	const finite = xy.filter(([a, b]) => Number.isFinite(a) && Number.isFinite(b));
+	const mags = finite.map(([a, b]) => Math.hypot(a, b)).sort((a, b) => a - b);
+	const cap = mags.length ? Math.max(mags[Math.floor(0.95 * (mags.length - 1))] * 1.6, 1e-9) : 1;
+	let box: Box = { x0: Infinity, x1: -Infinity, y0: Infinity, y1: -Infinity };
+	for (const [a, b] of finite) {
+		if (Math.hypot(a, b) > cap) continue;
+		box = {
+			x0: Math.min(box.x0, a),
+			x1: Math.max(box.x1, a),
+			y0: Math.min(box.y0, b),
+			y1: Math.max(box.y1, b)
+		};
+	}
+	for (const e of extra)
+		box = {
+			x0: Math.min(box.x0, e.x0),
+			x1: Math.max(box.x1, e.x1),
+			y0: Math.min(box.y0, e.y0),
+			y1: Math.max(box.y1, e.y1)
+		};
+	if (!Number.isFinite(box.x0)) box = { x0: -1, x1: 1, y0: -1, y1: 1 };
+	return box;
+}
+
+export function makeFrame(box: Box, width = 520, height = 380, equalAspect = true): Frame {
+	const pad = { left: 52, right: 14, top: 12, bottom: 36 };
+	const iw = width - pad.left - pad.right;
+	const ih = height - pad.top - pad.bottom;
+	let { x0, x1, y0, y1 } = box;
+	// Always show the origin and leave a margin.
+	x0 = Math.min(x0, 0);
+	x1 = Math.max(x1, 0);
+	y0 = Math.min(y0, 0);
+	y1 = Math.max(y1, 0);
+	let dx = x1 - x0 || 1;
+	let dy = y1 - y0 || 1;
+	x0 -= dx * 0.06;
+	x1 += dx * 0.06;
+	y0 -= dy * 0.06;
+	y1 += dy * 0.06;
+	dx = x1 - x0;
+	dy = y1 - y0;
+	if (equalAspect) {
+		const unit = Math.max(dx / iw, dy / ih);
+		const cx = (x0 + x1) / 2;
+		const cy = (y0 + y1) / 2;
+		x0 = cx - (unit * iw) / 2;
+		x1 = cx + (unit * iw) / 2;
+		y0 = cy - (unit * ih) / 2;
+		y1 = cy + (unit * ih) / 2;
+	}
+	const x = scaleLinear()
+		.domain([x0, x1])
+		.range([pad.left, width - pad.right]);
+	const y = scaleLinear()
+		.domain([y0, y1])
+		.range([height - pad.bottom, pad.top]);
+	const xTicks = x.ticks(7);
+	const yTicks = y.ticks(6);
+	const f = x.tickFormat(7);
+	const g = y.tickFormat(6);
+	return { width, height, pad, x, y, xTicks, yTicks, fmt: (v) => (xTicks.includes(v) ? f(v) : g(v)) };
+}
+
+/** SVG path through the points; a gap wherever a point is not finite or jumps far outside the frame. */
+export function pathOf(frame: Frame, xy: [number, number][]): string {
+	const [X0, X1] = frame.x.domain();
+	const [Y0, Y1] = frame.y.domain();
+	const far = 50 * Math.max(X1 - X0, Y1 - Y0);
+	let d = '';
+	let pen = false;
+	for (const [a, b] of xy) {
+		if (!Number.isFinite(a) || !Number.isFinite(b) || Math.abs(a) > far || Math.abs(b) > far) {
+			pen = false;
+			continue;
+		}
+		const px = frame.x(a).toFixed(1);
+		const py = frame.y(b).toFixed(1);
+		d += `${pen ? 'L' : 'M'}${px},${py}`;
+		pen = true;
+	}
+	return d;
+}
+
+/** Dash patterns so overlaid curves differ by more than colour. */
+export const DASHES = ['', '7 4', '2 3', '10 3 2 3', '4 4'];
+export const STROKES = ['#12343b', '#b7791f', '#6b4fa0', '#1f6f43', '#a12a22'];

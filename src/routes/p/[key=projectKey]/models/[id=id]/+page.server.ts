@@ -1,0 +1,46 @@
+import { error } from '@sveltejs/kit';
+import { requireRole } from '$lib/server/auth';
+import { ServiceError } from '$lib/server/errors';
+import { modelOverview } from '$lib/server/models/service';
+import type { PageServerLoad } from './$types';
+
+export const load = (async (event) => {
+	const { project, role } = await requireRole(event, event.params.key);
+	let o;
+	try {
+		o = await modelOverview(project.id, Number(event.params.id));
+	} catch (e) {
+		if (e instanceof ServiceError) error(e.status, { message: e.message });
+		throw e;
+	}
+	const { model: m, owner, versions, requirements: reqs } = o;
+	return {
+		project: { key: project.key, name: project.name },
+		canPublish: role === 'analyst' || role === 'admin' || event.locals.user?.site_admin === true,
+		model: {
+			id: Number(m.id),
+			name: m.name,
+			description: m.description,
+			latestVersion: m.latest_version,
+			owner
+		},
+		versions: versions.map((v) => ({
+			id: Number(v.id),
+			version: v.version,
+			note: v.note,
+			hash: v.content_hash,
+			at: new Date(v.created_at).toISOString().slice(0, 16).replace('T', ' '),
+			author: v.author_name ?? '—',
+			points: Number(v.point_count)
+		})),
+		requirements: reqs.map((r) => ({
+			id: Number(r.id),
+			identifier: r.identifier,
+			title: r.title,
+			status: r.status,
+			check: r.check,
+			pinned: r.pinned_version,
+			state: r.state
+		}))
+	};
+}) satisfies PageServerLoad;

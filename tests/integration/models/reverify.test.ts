@@ -1,0 +1,394 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import {
+	addMember,
+	closeTestDb,
+	createRequirement,
+	createSpec,
+	createTeam,
+	createUser,
+	testDb
+} from '../../factories';
+import { signedIn, type Client } from '../../helpers/http';
+import { allMail, expectMailTo, mailTo } from '../../helpers/mail';
+import { enqueueForModelVersion } from '../../../src/lib/server/analyses/queue';
+import { analysisStates } from '../../../src/lib/server/analyses/state';
+import { closeDb } from '../../../src/lib/server/db';
+import { stopBoss } from '../../../src/lib/server/jobs/boss';
+import {
+	CUBE,
+	LAG,
+	killGroup,
+	pauseHarnessWorker,
+	points,
+	resumeHarnessWorker,
+	settled,
+	spawnWorker,
+	waitFor
+} from './helpers';
+
+// Publishing a model version re-verifies every requirement that uses it, through the job queue and the
+// worker, with the verdicts' reference values derived by hand in ./helpers.ts.
+
+let team: Awaited<ReturnType<typeof createTeam>>;
+let analyst: Client;
+
+beforeAll(async () => {
+	team = await createTeam();
+	analyst = await signedIn(team.users.analyst.email, team.users.analyst.password);
+});
+afterAll(async () => {
+	resumeHarnessWorker();
+	await stopBoss();
+	await closeDb();
+	await closeTestDb();
+});
+
+async function newModel(name: string): Promise<number> {
+	const res = await analyst.json(`/api/v1/projects/${team.project.key}/models`, 'POST', {
+		name,
+		description: 'test loop'
+	});
+	expect(res.status).toBe(201);
+	return (await res.json()).id;
+}
+
+async function publish(modelId: number, operatingPoints: unknown, note = 'test') {
+	const res = await analyst.json(`/api/v1/projects/${team.project.key}/models/${modelId}/versions`, 'POST', {
+		note,
+		operatingPoints
+	});
+	return { status: res.status, body: await res.json() };
+}
+
+async function requirementOn(
+	modelId: number,
+	sector: [number, number],
+	ownerId: number | null = team.users.engineer.id
+) {
+	const r = await createRequirement(team.project.id, { ownerId });
+	await createSpec(r.id, { modelId, check: { type: 'circle', sector } });
+	return r.id;
+}
+
+const runsOf = (ids: number[]) => testDb()('analysis_runs').whereIn('requirement_id', ids).orderBy('id');
+const jobsFor = async (runIds: number[]) =>
+	(
+		await testDb().raw(
+			`select count(*)::int as n from pgboss.job where name = 'analysis-run' and (data->>'runId')::bigint = any(?::bigint[])`,
+			[runIds]
+		)
+	).rows[0].n as number;
+
+describe('publishing a model version', () => {
+	it('queues one run and one job per dependent requirement in the same transaction; a rollback leaves neither', async () => {
+		const modelId = await newModel('rollback loop');
+		const a = await requirementOn(modelId, [0, 3]);
+		const b = await requirementOn(modelId, [0, 5]);
+		const { status, body } = await publish(modelId, points(CUBE));
+		expect(status).toBe(201);
+		expect(body.runsQueued).toBe(2);
+		// Committed together: the runs and their jobs exist as soon as the answer arrives.
+		const runs = await runsOf([a, b]);
+		expect(runs.map((r) => r.model_version_id)).toEqual([body.id, body.id]);
+		expect(await jobsFor(runs.map((r) => Number(r.id)))).toBe(2);
+
+		// The same queuing inside a transaction that is rolled back: no version, no run, no job.
+		const before = (await runsOf([a, b])).length;
+		let seenInside = { runs: 0, jobs: 0 };
+		await expect(
+			testDb().transaction(async (trx) => {
+				const [v] = await trx('model_versions')
+					.insert({
+						model_id: modelId,
+						version: 2,
+						note: 'rolled back',
+						content: JSON.stringify({ operatingPoints: points(LAG) }),
+						content_hash: 'f'.repeat(64)
+					})
+					.returning('id');
+				await trx('models').where({ id: modelId }).update({ latest_version: 2 });
+				const queued = await enqueueForModelVersion(trx, Number(v.id), { kind: 'model-publish' });
+				const ids = (await trx('analysis_runs').where({ model_version_id: v.id }).pluck('id')).map(Number);
+				const jobs = (
+					await trx.raw(
+						`select count(*)::int as n from pgboss.job where name = 'analysis-run' and (data->>'runId')::bigint = any(?::bigint[])`,
+						[ids]
+					)
+				).rows[0].n;
+				seenInside = { runs: queued, jobs };
+				throw new Error('roll back');
+			})
+		).rejects.toThrow('roll back');
+		expect(seenInside).toEqual({ runs: 2, jobs: 2 });
+		expect((await runsOf([a, b])).length).toBe(before);
+		expect((await testDb()('models').where({ id: modelId }).first()).latest_version).toBe(1);
+		expect(await testDb()('model_versions').where({ model_id: modelId, version: 2 }).first()).toBeUndefined();
+	});
+
+	it('the worker completes the runs; verdicts, certified numbers and curves are stored', async () => {
+		const modelId = await newModel('cube loop');
+		const pass = await requirementOn(modelId, [0, 3]);
+		const fail = await requirementOn(modelId, [0, 5]);
+		const { body } = await publish(modelId, points(CUBE));
+		await settled([pass, fail]);
+		const states = await analysisStates(testDb(), [pass, fail]);
+		expect(states.get(pass)?.state).toBe('verified');
+		expect(states.get(fail)?.state).toBe('failing');
+		const [rp, rf] = await runsOf([pass, fail]);
+		for (const r of [rp, rf]) {
+			expect(r.status).toBe('done');
+			expect(r.model_version_id).toBe(body.id);
+			expect(r.model_hash).toBe(body.contentHash);
+			expect(r.worst_point).toBe('nominal');
+			expect(r.attempts).toBe(1);
+			expect(r.output_hash).toMatch(/^[0-9a-f]{64}$/);
+			expect(r.duration_ms).toBeGreaterThanOrEqual(0);
+			expect(r.trigger).toBe('model-publish');
+			expect(r.trigger_ref).toBe(`model-version:${body.id}`);
+			// Largest certified k2 for k1 = 0 is -1 / min Re G = 4, reached at w = 1 rad/s (helpers.ts).
+			expect(r.result.certifiedUpper).toBeCloseTo(4, 6);
+			expect(r.curves.points[0].nyquist.length).toBeGreaterThan(50);
+			expect(r.curves.sector.kind).toBe('half-plane');
+		}
+		expect(rp.verdict).toBe('pass');
+		expect(rf.verdict).toBe('fail');
+		expect(rf.result.criticalFrequency).toBeCloseTo(1, 3);
+		// The curve passes through G(j) = 1/(1+j)^3 = (-1 - j)/4.
+		const near1 = (rf.curves.points[0].nyquist as [number, number, number][]).reduce((a, b) =>
+			Math.abs(b[0] - 1) < Math.abs(a[0] - 1) ? b : a
+		);
+		expect(near1[1]).toBeCloseTo(-0.25, 2);
+		expect(near1[2]).toBeCloseTo(-0.25, 2);
+
+		// The API reads them back.
+		const res = await analyst.get(`/api/v1/requirements/${fail}/analyses`, { accept: 'application/json' });
+		expect(res.status).toBe(200);
+		const a = await res.json();
+		expect(a.state.state).toBe('failing');
+		expect(a.latest.verdict).toBe('fail');
+		expect(a.latest.model.hash).toBe(body.contentHash);
+		expect(a.latest.curves.points[0].label).toBe('nominal');
+		const one = await analyst.get(`/api/v1/analyses/${rf.id}`, { accept: 'application/json' });
+		expect((await one.json()).result.certifiedUpper).toBeCloseTo(4, 6);
+	});
+
+	it('a second identical publish creates nothing and runs nothing twice', async () => {
+		const modelId = await newModel('idempotent loop');
+		const r = await requirementOn(modelId, [0, 3]);
+		const first = await publish(modelId, points(LAG), 'first');
+		expect(first.status).toBe(201);
+		await settled([r]);
+		// Same content with keys in another order and another note: the canonical hash is the same.
+		const second = await publish(
+			modelId,
+			[{ model: { den: [1, 1], num: [1], kind: 'tf' }, label: 'nominal' }],
+			'again'
+		);
+		expect(second.status).toBe(200);
+		expect(second.body.created).toBe(false);
+		expect(second.body.runsQueued).toBe(0);
+		expect(second.body.id).toBe(first.body.id);
+		expect(second.body.contentHash).toBe(first.body.contentHash);
+		// Re-queuing the same inputs directly is refused by the run's unique key too.
+		const again = await testDb().transaction((trx) =>
+			enqueueForModelVersion(trx, first.body.id, { kind: 'model-publish' })
+		);
+		expect(again).toBe(0);
+		expect((await runsOf([r])).length).toBe(1);
+		expect((await testDb()('model_versions').where({ model_id: modelId })).length).toBe(1);
+	});
+
+	it('bad JSON and bad models answer 400 naming the fields, and change nothing', async () => {
+		const modelId = await newModel('guarded loop');
+		const r = await requirementOn(modelId, [0, 3]);
+		const snapshot = async () => ({
+			versions: (await testDb()('model_versions').where({ model_id: modelId })).length,
+			runs: (await runsOf([r])).length,
+			latest: (await testDb()('models').where({ id: modelId }).first()).latest_version
+		});
+		const before = await snapshot();
+		const raw = await analyst.request(`/api/v1/projects/${team.project.key}/models/${modelId}/versions`, {
+			method: 'POST',
+			headers: { 'content-type': 'application/json' },
+			body: '{"note": "x", "operatingPoints": ['
+		});
+		expect(raw.status).toBe(400);
+		expect((await raw.json()).error.fields.body).toBeTruthy();
+
+		const leadingZero = await publish(modelId, points({ kind: 'tf', num: [1], den: [0, 1, 1] }));
+		expect(leadingZero.status).toBe(400);
+		expect(leadingZero.body.error.fields['operatingPoints.0.model.den.0']).toMatch(
+			/leading denominator coefficient is zero/
+		);
+
+		const improper = await publish(modelId, points({ kind: 'tf', num: [1, 0, 0], den: [1, 1] }));
+		expect(improper.status).toBe(400);
+		expect(improper.body.error.fields['operatingPoints.0.model.num']).toMatch(/improper/);
+
+		const lonelyPole = await publish(modelId, points({ kind: 'zpk', zeros: [], poles: [[-1, 2]], gain: 1 }));
+		expect(lonelyPole.status).toBe(400);
+		expect(lonelyPole.body.error.fields['operatingPoints.0.model.poles.0']).toMatch(/conjugate/);
+
+		const twice = await publish(modelId, [...points(LAG, 'hover'), ...points(CUBE, 'hover')]);
+		expect(twice.status).toBe(400);
+		expect(twice.body.error.fields['operatingPoints.1.label']).toMatch(/used twice/);
+
+		const none = await publish(modelId, []);
+		expect(none.status).toBe(400);
+		expect(none.body.error.fields.operatingPoints).toMatch(/at least one/);
+
+		// The form: unparsable operating points come back as a field error.
+		const form = await analyst.action(`/p/${team.project.key}/models/${modelId}/publish?/publish`, {
+			note: 'x',
+			operatingPoints: '[{"label": '
+		});
+		expect(form.type).toBe('failure');
+		expect(form.status).toBe(400);
+		expect(String((form.data?.errors as Record<string, string>).operatingPoints)).toMatch(/not valid JSON/);
+
+		expect(await snapshot()).toEqual(before);
+	});
+
+	it('an engine refusal is recorded as an error run, never lost', async () => {
+		const modelId = await newModel('refused loop');
+		const req = await createRequirement(team.project.id, { ownerId: team.users.engineer.id });
+		await createSpec(req.id, { modelId, check: { type: 'circle', sector: [0, 3] } });
+		// Specs are immutable: a second one, made current, covers an operating point the version lacks.
+		const [s] = await testDb()('stability_specs')
+			.insert({
+				requirement_id: req.id,
+				version: 2,
+				check: JSON.stringify({ type: 'circle', sector: [0, 3] }),
+				operating_points: ['cruise'],
+				model_id: modelId,
+				content_hash: 'e'.repeat(64)
+			})
+			.returning('id');
+		await testDb()('requirements').where({ id: req.id }).update({ current_spec_id: s.id });
+		await publish(modelId, points(LAG, 'hover'));
+		await settled([req.id]);
+		const [run] = await runsOf([req.id]);
+		expect(run.status).toBe('error');
+		expect(run.error).toMatch(/cruise/);
+		expect((await analysisStates(testDb(), [req.id])).get(req.id)?.state).toBe('error');
+	});
+});
+
+describe('verdict-change mail', () => {
+	it('a failing transition mails each person concerned exactly once per publish', async () => {
+		// People of their own, so mail caused by the other tests cannot blur the counts.
+		const ownerA = await createUser({ name: 'First Owner' });
+		const ownerB = await createUser({ name: 'Second Owner' });
+		const modeller = await createUser({ name: 'Model Owner' });
+		await addMember(ownerA.id, team.project.id, 'engineer');
+		await addMember(ownerB.id, team.project.id, 'engineer');
+		await addMember(modeller.id, team.project.id, 'analyst');
+		const modelId = await newModel('mailed loop');
+		await testDb()('models').where({ id: modelId }).update({ owner_id: modeller.id });
+		const r1 = await requirementOn(modelId, [0, 5], ownerA.id);
+		const r2 = await requirementOn(modelId, [0, 6], ownerB.id);
+		const r3 = await requirementOn(modelId, [0, 7], ownerA.id);
+		const count = async (email: string) => mailTo(email, await allMail()).length;
+		const base = {
+			a: await count(ownerA.email),
+			b: await count(ownerB.email),
+			m: await count(modeller.email)
+		};
+
+		// v1 = 1/(s+1): every sector [0, k] passes (helpers.ts); a first pass mails nobody.
+		await publish(modelId, points(LAG), 'v1');
+		await settled([r1, r2, r3]);
+		expect([...(await analysisStates(testDb(), [r1, r2, r3])).values()].map((s) => s.state)).toEqual([
+			'verified',
+			'verified',
+			'verified'
+		]);
+
+		// v2 = 1/(s+1)^3: k2 = 5, 6, 7 all exceed the certified 4, so all three turn to failing.
+		const v2 = await publish(modelId, points(CUBE), 'v2 adds two lags');
+		await settled([r1, r2, r3]);
+		expect([...(await analysisStates(testDb(), [r1, r2, r3])).values()].map((s) => s.state)).toEqual([
+			'failing',
+			'failing',
+			'failing'
+		]);
+		const mA = await expectMailTo(ownerA.email, { after: base.a });
+		const mB = await expectMailTo(ownerB.email, { after: base.b });
+		const mM = await expectMailTo(modeller.email, { after: base.m });
+		// Let any duplicate arrive before counting.
+		await new Promise((r) => setTimeout(r, 2500));
+		expect(await count(ownerA.email)).toBe(base.a + 1);
+		expect(await count(ownerB.email)).toBe(base.b + 1);
+		expect(await count(modeller.email)).toBe(base.m + 1);
+		const ids = await testDb()('requirements').whereIn('id', [r1, r2, r3]).orderBy('id').pluck('identifier');
+		// Owner A owns r1 and r3: one mail naming both; the model's owner gets all three in one mail.
+		expect(mA.text).toContain(ids[0]);
+		expect(mA.text).toContain(ids[2]);
+		expect(mA.text).not.toContain(ids[1]);
+		expect(mB.text).toContain(ids[1]);
+		for (const id of ids) expect(mM.text).toContain(id);
+		expect(mA.text).toMatch(/verified by analysis -> failing/);
+		expect(mA.text).toMatch(new RegExp(`/p/${team.project.key}/requirements/${r1}`));
+		expect(mM.subject).toMatch(/3 verdicts changed/);
+		expect(
+			(
+				await testDb()('analysis_notices')
+					.where({ trigger_ref: `model-version:${v2.body.id}` })
+					.first()
+			).mails
+		).toBe(3);
+
+		// Back to 1/(s+1): the fail -> pass transition mails again, once each.
+		await publish(modelId, points(LAG), 'v3 back to the single lag');
+		await settled([r1, r2, r3]);
+		const back = await expectMailTo(ownerB.email, { after: base.b + 1 });
+		expect(back.text).toMatch(/failing -> verified by analysis/);
+		await new Promise((r) => setTimeout(r, 2500));
+		expect(await count(ownerA.email)).toBe(base.a + 2);
+		expect(await count(ownerB.email)).toBe(base.b + 2);
+		expect(await count(modeller.email)).toBe(base.m + 2);
+	}, 60_000);
+});
+
+describe('a worker killed mid-run', () => {
+	it('leaves the run to be retried and completed by another worker', async () => {
+		const modelId = await newModel('crash loop');
+		const r = await requirementOn(modelId, [0, 3]);
+		pauseHarnessWorker();
+		// This worker claims the run, then waits (fault-injection aid) so it can be killed mid-run.
+		const doomed = spawnWorker({ LW_WORKER_HOLD_MS: '120000' });
+		let rescuer: ReturnType<typeof spawnWorker> | undefined;
+		try {
+			await publish(modelId, points(CUBE));
+			const claimed = await waitFor('the first worker to claim the run', async () => {
+				const [run] = await runsOf([r]);
+				return run?.status === 'running' ? run : null;
+			});
+			expect(claimed.attempts).toBe(1);
+			killGroup(doomed, 'SIGKILL');
+			await waitFor(
+				'the killed worker to exit',
+				async () => doomed.exitCode !== null || doomed.signalCode !== null
+			);
+			rescuer = spawnWorker();
+			// The job expires (LW_RUN_EXPIRE_SECONDS, 20 s), pg-boss retries it, the second worker completes it.
+			const done = await waitFor(
+				'the retried run to finish',
+				async () => {
+					const [run] = await runsOf([r]);
+					return run?.status === 'done' || run?.status === 'error' ? run : null;
+				},
+				60_000
+			);
+			expect(done.status).toBe('done');
+			expect(done.attempts).toBe(2);
+			expect(done.verdict).toBe('pass');
+			expect(done.result.certifiedUpper).toBeCloseTo(4, 6);
+			expect((await runsOf([r])).length).toBe(1);
+		} finally {
+			killGroup(doomed, 'SIGKILL');
+			if (rescuer) killGroup(rescuer, 'SIGTERM');
+			resumeHarnessWorker();
+		}
+	}, 90_000);
+});
