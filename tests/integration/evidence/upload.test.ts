@@ -277,7 +277,9 @@ describe('evidence upload', () => {
 				url(),
 				evidenceForm(fields(title), { name: 'db.txt', bytes: Buffer.from('abc\n') })
 			);
-			expect(res.status).toBe(500);
+			// PostgreSQL's refusal is answered as a refused request (src/lib/server/api.ts pgRefusal).
+			expect(res.status).toBe(400);
+			expect((await res.json()).error.message).toMatch(/nothing was changed/);
 			expect(await evidenceRowsTitled(title)).toBe(0);
 			expect(await eventually(async () => (await objectsUnder(prefix)).length === before.length)).toBe(true);
 			expect(

@@ -10,6 +10,48 @@ const uploaders = rolesOnly(['engineer', 'analyst', 'certifier']);
 const apiUploaders = rolesOnly(['engineer', 'analyst', 'certifier'], 401);
 
 export const cases: RouteCase[] = [
+	{ route: '/p/[key=projectKey]/evidence', method: 'GET', path: '/p/{key}/evidence', expect: membersOnly() },
+	{
+		route: '/p/[key=projectKey]/evidence',
+		method: 'ACTION upload',
+		path: '/p/{key}/evidence',
+		body: { title: '' },
+		expect: uploaders
+	},
+	{
+		route: '/p/[key=projectKey]/evidence/[id=id]',
+		method: 'GET',
+		path: '/p/{key}/evidence/{evidenceId}',
+		expect: membersOnly()
+	},
+	{
+		route: '/p/[key=projectKey]/evidence/[id=id]',
+		method: 'ACTION review',
+		path: '/p/{key}/evidence/{evidenceId}',
+		body: { decision: 'maybe', comment: '', revision: '1' },
+		expect: rolesOnly(['certifier'])
+	},
+	{
+		route: '/p/[key=projectKey]/evidence/[id=id]',
+		method: 'ACTION integrity',
+		path: '/p/{key}/evidence/{evidenceId}',
+		body: { revision: 'none' },
+		expect: membersOnly()
+	},
+	{
+		route: '/p/[key=projectKey]/evidence/[id=id]',
+		method: 'ACTION revise',
+		path: '/p/{key}/evidence/{evidenceId}',
+		body: {},
+		expect: uploaders
+	},
+	{
+		route: '/p/[key=projectKey]/evidence/[id=id]',
+		method: 'ACTION tolerance',
+		path: '/p/{key}/evidence/{evidenceId}',
+		body: { requirementId: 'x', relativeErrorPct: '', phaseDeg: '' },
+		expect: rolesOnly(['engineer', 'analyst'])
+	},
 	{
 		route: '/api/v1/projects/[key=projectKey]/evidence',
 		method: 'GET',
@@ -62,7 +104,6 @@ export const cases: RouteCase[] = [
 		expect: membersOnly()
 	}
 ];
-void uploaders;
 
 /** A 1x1 PNG (ISO/IEC 15948 layout), so the inline view has something to show. */
 function png(): Buffer {

@@ -105,7 +105,12 @@ function normaliseNumber(cell: string): string {
 	return /^[+-]?\d+,\d+([eE][+-]?\d+)?$/.test(s) ? s.replace(',', '.') : s;
 }
 
-function splitRows(text: string): { rows: { cells: string[]; line: number }[]; delimiter: string } {
+function splitRows(raw: string): { rows: { cells: string[]; line: number }[]; delimiter: string } {
+	// Comment lines (# ...) are blanked, not removed, so row numbers stay those of the file.
+	const text = raw
+		.split(/\r\n|\n|\r/)
+		.map((l) => (l.trimStart().startsWith('#') ? '' : l))
+		.join('\n');
 	const parsed = Papa.parse<string[]>(text, {
 		skipEmptyLines: false,
 		delimitersToGuess: [',', ';', '\t', '|']
@@ -126,7 +131,6 @@ function splitRows(text: string): { rows: { cells: string[]; line: number }[]; d
 	data.forEach((cells, i) => {
 		const line = i + 1;
 		if (cells.every((c) => c.trim() === '')) return;
-		if (cells[0]?.trim().startsWith('#')) return;
 		rows.push({ cells: cells.map((c) => c.trim()), line });
 	});
 	return { rows, delimiter };

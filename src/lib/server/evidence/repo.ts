@@ -178,6 +178,16 @@ export const evidenceRepo = {
 			})
 			.select('r.id', 'r.identifier', 'rr.title', 'r.current_spec_id') as Promise<RequirementRef[]>,
 
+	/** Every requirement of a project (for the link and filter choices). */
+	projectRequirements: (db: Db, projectId: number) =>
+		db('requirements as r')
+			.leftJoin('requirement_revisions as rr', function () {
+				this.on('rr.requirement_id', 'r.id').andOn('rr.revision', 'r.current_revision');
+			})
+			.where('r.project_id', projectId)
+			.orderBy('r.identifier')
+			.select('r.id', 'r.identifier', 'rr.title', 'r.current_spec_id') as Promise<RequirementRef[]>,
+
 	list: async (
 		db: Db,
 		projectId: number,

@@ -126,15 +126,24 @@ function serialiseResponse(r: MeasuredResponse): string {
 	});
 }
 
+/** The text fields of a failed upload, so a form can show them again (the file itself is never kept). */
+export const submittedFields = new WeakMap<object, Record<string, string>>();
+
 async function withStoredObject<T>(
 	store: ObjectStore,
 	file: StoredUpload | null,
+	fields: Record<string, string>,
 	work: (file: StoredUpload) => Promise<T>
 ): Promise<T> {
-	if (!file) throw new ServiceError(400, 'Choose a file to upload.', { file: 'Choose a file to upload.' });
+	if (!file) {
+		const e = new ServiceError(400, 'Choose a file to upload.', { file: 'Choose a file to upload.' });
+		submittedFields.set(e, fields);
+		throw e;
+	}
 	try {
 		return await work(file);
 	} catch (e) {
+		if (e && typeof e === 'object') submittedFields.set(e, fields);
 		// The database row could not be written (or the fields were wrong): the object must not stay.
 		await store.remove(file.storageKey).catch((err) => {
 			console.error(`[evidence] could not remove ${file.storageKey} after a failed upload:`, err);
@@ -189,6 +198,11 @@ export interface UploadResult {
 	measuredPoints: number | null;
 }
 
+export async function projectRequirements(projectId: number) {
+	const rows = await repo.projectRequirements(db(), projectId);
+	return rows.map((r) => ({ id: Number(r.id), identifier: r.identifier, title: r.title ?? '' }));
+}
+
 /** A new evidence item from a multipart request (fields + `file`). */
 export async function uploadEvidence(input: UploadInput): Promise<UploadResult> {
 	const store = input.store ?? objectStore();
@@ -199,7 +213,7 @@ export async function uploadEvidence(input: UploadInput): Promise<UploadResult> 
 		keyPrefix: keyPrefix(input.project),
 		maxBytes: config.evidenceMaxBytes
 	});
-	return withStoredObject(store, file, async (f) => {
+	return withStoredObject(store, file, fields, async (f) => {
 		const v = parseOrThrow(uploadFields, fields);
 		const reqs = await resolveRequirements(input.project.id, v.requirementIds);
 		const measured = v.kind === 'frequency-response' ? parseMeasured(f, v) : null;
@@ -272,7 +286,7 @@ export async function reviseEvidence(input: UploadInput & { evidenceId: number }
 		keyPrefix: keyPrefix(input.project),
 		maxBytes: config.evidenceMaxBytes
 	});
-	return withStoredObject(store, file, async (f) => {
+	return withStoredObject(store, file, fields, async (f) => {
 		const v = parseOrThrow(revisionFields, fields);
 		return db().transaction(async (trx) => {
 			const item = await repo.lockItem(trx, input.evidenceId);

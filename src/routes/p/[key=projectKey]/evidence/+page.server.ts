@@ -1,0 +1,72 @@
+import { fail, isHttpError, redirect } from '@sveltejs/kit';
+import { actorOf } from '$lib/server/audit';
+import { requireRole } from '$lib/server/auth';
+import { config } from '$lib/server/config';
+import { ServiceError, type FieldErrors } from '$lib/server/errors';
+import { UPLOAD_ROLES } from '$lib/server/evidence/guard';
+import { EVIDENCE_KINDS, KIND_LABELS, VERIFICATION_METHODS } from '$lib/server/evidence/schema';
+import {
+	listEvidence,
+	projectRequirements,
+	submittedFields,
+	uploadEvidence
+} from '$lib/server/evidence/service';
+import { formatBytes } from '$lib/server/evidence/upload';
+import type { Actions, PageServerLoad } from './$types';
+
+export const load = (async (event) => {
+	const { project, role } = await requireRole(event, event.params.key);
+	const q = event.url.searchParams;
+	const [list, requirements] = await Promise.all([
+		listEvidence(project.id, {
+			kind: q.get('kind') || undefined,
+			review: q.get('review') || undefined,
+			requirement: q.get('requirement') || undefined
+		}).catch(() => listEvidence(project.id, {})),
+		projectRequirements(project.id)
+	]);
+	return {
+		project: { key: project.key, name: project.name },
+		canUpload: role === 'admin' || UPLOAD_ROLES.includes(role),
+		evidence: list.rows,
+		filters: {
+			kind: list.filters.kind ?? '',
+			review: list.filters.review ?? '',
+			requirement: list.filters.requirement ?? ''
+		},
+		requirements,
+		kinds: EVIDENCE_KINDS.map((k) => ({ value: k, label: KIND_LABELS[k] })),
+		methods: [...VERIFICATION_METHODS],
+		maxBytes: config.evidenceMaxBytes,
+		maxLabel: formatBytes(config.evidenceMaxBytes)
+	};
+}) satisfies PageServerLoad;
+
+export const actions = {
+	// The upload form without JavaScript: the multipart body is streamed exactly as through the API.
+	upload: async (event) => {
+		const { project } = await requireRole(event, event.params.key, UPLOAD_ROLES);
+		let id: number;
+		try {
+			const r = await uploadEvidence({
+				project,
+				actor: actorOf(event.locals),
+				headers: event.request.headers,
+				body: event.request.body
+			});
+			id = r.id;
+		} catch (e) {
+			if (e instanceof ServiceError) {
+				const values = submittedFields.get(e) ?? {};
+				return fail(e.status, {
+					action: 'upload',
+					values,
+					errors: { ...e.fields, _: e.message } as FieldErrors
+				});
+			}
+			if (isHttpError(e)) throw e;
+			throw e;
+		}
+		redirect(303, `/p/${project.key}/evidence/${id}`);
+	}
+} satisfies Actions;
