@@ -62,7 +62,7 @@ export const models = {
 	byId: (db: Db, id: number) => db<ModelRow>('models').where({ id }).first(),
 	byName: (db: Db, projectId: number, name: string) =>
 		db<ModelRow>('models').where({ project_id: projectId, name }).first(),
-	lockById: (db: Db, id: number) => db<ModelRow>('models').where({ id }).forUpdate().first(),
+	lockById: (db: Db, id: number) => db<ModelRow>('models').where({ id }).forNoKeyUpdate().first(),
 	insert: async (
 		db: Db,
 		row: { project_id: number; name: string; description: string; owner_id: number | null }
