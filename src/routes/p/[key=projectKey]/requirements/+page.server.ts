@@ -1,0 +1,35 @@
+import { requireRole } from '$lib/server/auth';
+import { LEVELS, STATUSES, listFilters } from '$lib/server/requirements/schema';
+import { countRequirements, listRequirements, projectMembers } from '$lib/server/requirements/service';
+import type { PageServerLoad } from './$types';
+
+export const load = (async (event) => {
+	const { project, role, user } = await requireRole(event, event.params.key);
+	const sp = event.url.searchParams;
+	const filters = listFilters.parse({
+		status: sp.get('status') || undefined,
+		level: sp.get('level') || undefined,
+		owner: sp.get('owner') || undefined,
+		q: sp.get('q') || undefined
+	});
+	const [rows, total, members] = await Promise.all([
+		listRequirements(project.id, filters),
+		countRequirements(project.id),
+		projectMembers(project.id)
+	]);
+	return {
+		project: { key: project.key, name: project.name },
+		canWrite: role === 'engineer' || role === 'admin' || user.site_admin,
+		filters: {
+			status: filters.status ?? '',
+			level: filters.level ?? '',
+			owner: filters.owner ? String(filters.owner) : '',
+			q: filters.q ?? ''
+		},
+		rows,
+		total,
+		members: members.map((m) => ({ id: m.id, name: m.name })),
+		statuses: [...STATUSES],
+		levels: [...LEVELS]
+	};
+}) satisfies PageServerLoad;
