@@ -85,15 +85,16 @@ export class ObjectStore {
 	}
 
 	/**
-	 * Store a stream under `key`. Large bodies go up as a multipart upload, 8 MiB parts, two in flight,
-	 * so at most about 16 MiB of the file is in memory at a time; an error aborts the multipart upload.
+	 * Store a stream under `key`. Large bodies go up as a multipart upload of 5 MiB parts (the smallest S3
+	 * allows), one in flight while the next is gathered, so about 10 MiB of the file is in memory at a time;
+	 * an error aborts the multipart upload.
 	 */
 	async put(key: string, body: Readable, contentType: string, signal?: AbortSignal): Promise<void> {
 		const upload = new Upload({
 			client: this.client,
 			params: { Bucket: this.bucket, Key: key, Body: body, ContentType: contentType },
-			partSize: 8 * 1024 * 1024,
-			queueSize: 2,
+			partSize: 5 * 1024 * 1024,
+			queueSize: 1,
 			leavePartsOnError: false
 		});
 		const onAbort = () => void upload.abort().catch(() => {});

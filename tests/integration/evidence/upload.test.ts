@@ -17,8 +17,8 @@ import {
 } from './fixtures';
 
 // Evidence upload against the running app and the object-storage stand-in. The app runs with
-// EVIDENCE_MAX_BYTES = 12 MiB (scripts/test.sh), so an 11 MiB file goes up as a two-part multipart upload
-// (8 MiB parts) and 12 MiB + 1 byte is over the limit. Every expected SHA-256 is computed here, in the
+// EVIDENCE_MAX_BYTES = 12 MiB (scripts/test.sh), so an 11 MiB file goes up as a multipart upload
+// (5 MiB parts, so three of them) and 12 MiB + 1 byte is over the limit. Every expected SHA-256 is computed here, in the
 // test, from the bytes sent (FIPS 180-4 through node:crypto), never taken from the app.
 
 const LIMIT = Number(process.env.EVIDENCE_MAX_BYTES);
@@ -229,7 +229,7 @@ describe('evidence upload', () => {
 				.join('') +
 			`--${boundary}\r\ncontent-disposition: form-data; name="file"; filename="cut.txt"\r\ncontent-type: text/plain\r\n\r\n`;
 		const declared = 11 * 1024 * 1024;
-		const sent = 9 * 1024 * 1024; // more than one 8 MiB part: a multipart upload is under way when the client goes
+		const sent = 9 * 1024 * 1024; // more than one 5 MiB part: a multipart upload is under way when the client goes
 		await new Promise<void>((resolve) => {
 			const u = new URL(env.baseUrl + url());
 			const r = httpRequest({

@@ -132,7 +132,10 @@ export async function receiveMultipart(opts: {
 			return;
 		}
 		fileSeen = true;
-		fileTask = storeFile(stream, info.filename ?? '', opts);
+		// The in-memory text copy is only for a measured frequency response; when the form already said
+		// another kind (our forms send the fields before the file), none is kept.
+		const wantCopy = () => fields.kind === undefined || fields.kind === 'frequency-response';
+		fileTask = storeFile(stream, info.filename ?? '', { ...opts, wantCopy });
 		// Settled later; avoid an unhandled rejection in between.
 		fileTask.catch(() => {});
 	});
@@ -180,7 +183,7 @@ export async function receiveMultipart(opts: {
 function storeFile(
 	file: Readable,
 	originalName: string,
-	opts: { store: ObjectStore; keyPrefix: string; maxBytes: number }
+	opts: { store: ObjectStore; keyPrefix: string; maxBytes: number; wantCopy: () => boolean }
 ): Promise<StoredUpload> {
 	const storageKey = `${opts.keyPrefix}/${randomUUID()}/${sanitiseFileName(originalName)}`;
 	const hash = createHash('sha256');
@@ -269,7 +272,7 @@ function storeFile(
 					kind = k;
 					if (TEXT_KINDS.includes(k)) {
 						text = new TextChecker();
-						if (k !== 'json') copy = [];
+						if (k !== 'json' && opts.wantCopy()) copy = [];
 					}
 					put = opts.store.put(storageKey, out, ACCEPTED[k], abort.signal);
 					put.catch((e) => fail(e));

@@ -1,0 +1,34 @@
+// npm run bench: each section measures one thing end to end and prints its figure against its target.
+//   npm run bench                 every section
+//   npm run bench -- upload       only the sections named
+import { reverifySection } from './bench/reverify';
+import { uploadSection } from './bench/upload';
+
+type Section = () => Promise<{
+	name: string;
+	figure: string;
+	target: string;
+	ok: boolean;
+	details: Record<string, number | string>;
+}>;
+
+const sections: Record<string, Section> = {
+	reverify: reverifySection,
+	upload: uploadSection
+};
+
+const wanted = process.argv.slice(2).filter((a) => !a.startsWith('-'));
+let failed = 0;
+for (const [key, run] of Object.entries(sections)) {
+	if (wanted.length && !wanted.includes(key)) continue;
+	try {
+		const r = await run();
+		if (!r.ok) failed++;
+		console.log(`${r.ok ? 'ok  ' : 'MISS'} ${r.name}: ${r.figure} (target: ${r.target})`);
+		console.log('     ' + JSON.stringify(r.details));
+	} catch (e) {
+		failed++;
+		console.log(`FAIL ${key}: ${(e as Error).message}`);
+	}
+}
+process.exit(failed ? 1 : 0);
