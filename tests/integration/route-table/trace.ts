@@ -8,6 +8,33 @@ import type { PrepareContext } from '../authorization.test';
 // table creates no baseline.
 
 export const cases: RouteCase[] = [
+	{ route: '/p/[key=projectKey]/trace', method: 'GET', path: '/p/{key}/trace', expect: membersOnly() },
+	{ route: '/p/[key=projectKey]/coverage', method: 'GET', path: '/p/{key}/coverage', expect: membersOnly() },
+	{
+		route: '/p/[key=projectKey]/baselines',
+		method: 'GET',
+		path: '/p/{key}/baselines',
+		expect: membersOnly()
+	},
+	{
+		route: '/p/[key=projectKey]/baselines',
+		method: 'ACTION freeze',
+		path: '/p/{key}/baselines',
+		body: { label: '', note: '' },
+		expect: rolesOnly(['certifier'])
+	},
+	{
+		route: '/p/[key=projectKey]/baselines/[id=id]',
+		method: 'GET',
+		path: '/p/{key}/baselines/{baselineId}',
+		expect: membersOnly()
+	},
+	{
+		route: '/p/[key=projectKey]/baselines/compare',
+		method: 'GET',
+		path: '/p/{key}/baselines/compare?from={baselineId}&to=now',
+		expect: membersOnly()
+	},
 	{
 		route: '/api/v1/projects/[key=projectKey]/trace-matrix',
 		method: 'GET',

@@ -1,0 +1,341 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { ENGINE_VERSION } from '../../../src/lib/stability/index';
+import {
+	closeTestDb,
+	createEvidence,
+	createModel,
+	createModelVersion,
+	createRequirement,
+	createRun,
+	createSpec,
+	createTeam,
+	lagModel,
+	linkRequirements,
+	removeLink,
+	reviewEvidence,
+	reviseRequirement,
+	testDb
+} from '../../factories';
+import { signedIn, type Client } from '../../helpers/http';
+
+// Baselines on a scripted project: the manifest hash is a function of the state (same state, same hash;
+// any change, a new hash), the database refuses to change or delete a baseline, TBD/TBR and pending
+// re-runs block a freeze, and the comparison lists exactly the changes the script made.
+
+let team: Awaited<ReturnType<typeof createTeam>>;
+let certifier: Client;
+let viewer: Client;
+const api = () => `/api/v1/projects/${team.project.key}/baselines`;
+
+interface Summary {
+	id: number;
+	number: number;
+	manifest_hash: string;
+}
+
+async function freeze(label: string): Promise<Summary> {
+	const res = await certifier.json(api(), 'POST', { label });
+	const body = await res.json();
+	expect(res.status, JSON.stringify(body)).toBe(201);
+	return body;
+}
+
+const run = (id: number, verdict: 'pass' | 'fail', threshold: number) =>
+	createRun(id, {
+		engineVersion: ENGINE_VERSION,
+		verdict,
+		result: { type: 'popov', verdict, threshold, numbers: {}, explanation: 'scripted' }
+	});
+
+let m1: { id: number };
+let m2: { id: number };
+let a1: { id: number; identifier: string };
+let a2: { id: number; identifier: string };
+let a3: { id: number; identifier: string };
+let e1: { id: number; fileId: number };
+
+beforeAll(async () => {
+	team = await createTeam();
+	certifier = await signedIn(team.users.certifier.email, team.users.certifier.password);
+	viewer = await signedIn(team.users.viewer.email, team.users.viewer.password);
+	const pid = team.project.id;
+	m1 = await createModel(pid, { name: 'Elevon actuator' });
+	m2 = await createModel(pid, { name: 'Wing-tilt actuator' });
+	await createModelVersion(m1.id, lagModel(1, 0.1));
+	await createModelVersion(m2.id, lagModel(2, 0.2));
+	a1 = await createRequirement(pid, { title: 'Pitch loop stability', level: 'system' });
+	await createSpec(a1.id, { modelId: m1.id, check: { type: 'popov', sector: [0, 2] } });
+	await run(a1.id, 'pass', 3);
+	a2 = await createRequirement(pid, { title: 'Tilt servo sector', level: 'subsystem' });
+	await linkRequirements(a2.id, a1.id);
+	await createSpec(a2.id, { modelId: m2.id, check: { type: 'popov', sector: [0, 1.5] } });
+	await run(a2.id, 'pass', 2.5);
+	a3 = await createRequirement(pid, { title: 'Tilt rig check', level: 'loop', methods: ['test'] });
+	e1 = await createEvidence(pid, [a3.id], { title: 'Tilt rig sweep' });
+});
+afterAll(closeTestDb);
+
+describe('baseline manifest hash', () => {
+	it('is the same for the same state and changes with every change', async () => {
+		const first = await freeze('start');
+		const again = await freeze('start again');
+		expect(again.manifest_hash).toBe(first.manifest_hash);
+		expect(again.number).toBe(first.number + 1);
+
+		const seen = new Set([first.manifest_hash]);
+		const changes: [string, () => Promise<unknown>][] = [
+			[
+				'requirement text',
+				() => reviseRequirement(a3.id, { statement: 'The tilt loop shall remain stable on the rig.' })
+			],
+			['trace link added', async () => linkRequirements(a3.id, a1.id)],
+			[
+				'trace link removed',
+				async () => {
+					const l = await testDb()('requirement_links')
+						.where({ child_id: a3.id, parent_id: a1.id })
+						.whereNull('removed_at')
+						.first('id');
+					await removeLink(l.id);
+				}
+			],
+			['evidence reviewed', () => reviewEvidence(e1.fileId, 'accepted')],
+			[
+				'model version published and re-run',
+				async () => {
+					await createModelVersion(m1.id, lagModel(1.5, 0.1));
+					await run(a1.id, 'pass', 2.8);
+				}
+			],
+			[
+				'new requirement',
+				() => createRequirement(team.project.id, { title: 'Added later', methods: ['inspection'] })
+			]
+		];
+		const hashes = [first.manifest_hash];
+		for (const [what, change] of changes) {
+			await change();
+			const b = await freeze(`after ${what}`);
+			if (what === 'trace link removed') {
+				// Removing the link restores the state before it was added: the same manifest, the same hash.
+				expect(b.manifest_hash).toBe(hashes[hashes.length - 2]);
+				hashes.push(b.manifest_hash);
+				continue;
+			}
+			expect(seen.has(b.manifest_hash), `hash after "${what}" is new`).toBe(false);
+			seen.add(b.manifest_hash);
+			hashes.push(b.manifest_hash);
+		}
+		expect(seen.size).toBe(changes.length);
+	});
+
+	it('the stored manifest still hashes to its SHA-256 and is readable by viewers', async () => {
+		const list = (await (await viewer.get(api(), { accept: 'application/json' })).json())
+			.baselines as Summary[];
+		const res = await viewer.get(`${api()}/${list[0].id}`, { accept: 'application/json' });
+		expect(res.status).toBe(200);
+		const b = await res.json();
+		expect(b.verified).toBe(true);
+		expect(b.manifest.engineVersion).toBe(ENGINE_VERSION);
+		expect(b.manifest.requirements.map((r: { identifier: string }) => r.identifier)).toContain(a3.identifier);
+		const r3 = b.manifest.requirements.find((r: { identifier: string }) => r.identifier === a3.identifier);
+		const rev = await testDb()('requirement_revisions')
+			.where({ requirement_id: a3.id })
+			.orderBy('revision', 'desc')
+			.first();
+		expect(r3).toMatchObject({
+			revision: rev.revision,
+			contentHash: rev.content_hash,
+			statement: rev.statement
+		});
+		const ev = b.manifest.evidence.find((e: { evidenceId: number }) => e.evidenceId === e1.id);
+		const file = await testDb()('evidence_files').where({ id: e1.fileId }).first('sha256');
+		expect(ev).toMatchObject({ sha256: file.sha256, review: { decision: 'accepted' } });
+	});
+});
+
+describe('baselines are immutable in the database', () => {
+	it('refuses UPDATE and DELETE', async () => {
+		const b = await testDb()('baselines').where({ project_id: team.project.id }).first('id', 'label');
+		await expect(testDb()('baselines').where({ id: b.id }).update({ label: 'edited' })).rejects.toThrow(
+			/immutable/
+		);
+		await expect(testDb()('baselines').where({ id: b.id }).update({ manifest: '{}' })).rejects.toThrow(
+			/immutable/
+		);
+		await expect(testDb()('baselines').where({ id: b.id }).delete()).rejects.toThrow(/immutable/);
+		expect((await testDb()('baselines').where({ id: b.id }).first('label')).label).toBe(b.label);
+	});
+});
+
+describe('what blocks a baseline', () => {
+	it('TBD/TBR and pending re-runs are refused with the list, and nothing is stored', async () => {
+		const t = await createTeam();
+		const c = await signedIn(t.users.certifier.email, t.users.certifier.password);
+		const m = await createModel(t.project.id);
+		await createModelVersion(m.id);
+		const tbd = await createRequirement(t.project.id, {
+			statement: 'The loop shall be stable for gains up to TBR.'
+		});
+		const pend = await createRequirement(t.project.id, { title: 'Awaiting its run' });
+		await createSpec(pend.id, { modelId: m.id });
+		await createRequirement(t.project.id, { title: 'Fine', methods: ['inspection'] });
+		const res = await c.json(`/api/v1/projects/${t.project.key}/baselines`, 'POST', { label: 'blocked' });
+		expect(res.status).toBe(409);
+		const body = await res.json();
+		expect(body.error.blockers).toEqual([
+			{ identifier: tbd.identifier, title: tbd.title, reasons: ['TBD/TBR in the statement'] },
+			{ identifier: pend.identifier, title: pend.title, reasons: ['Analysis re-run pending'] }
+		]);
+		const stored = await testDb()('baselines').where({ project_id: t.project.id }).count('* as n').first();
+		expect(Number(stored?.n)).toBe(0);
+		// The form shows the same list.
+		const form = await c.action(`/p/${t.project.key}/baselines?/freeze`, { label: 'blocked', note: '' });
+		expect(form.type).toBe('failure');
+		expect(form.status).toBe(409);
+		expect(JSON.stringify(form.data)).toContain(tbd.identifier);
+	});
+
+	it('an empty name is a field error', async () => {
+		const res = await certifier.json(api(), 'POST', { label: '  ' });
+		expect(res.status).toBe(400);
+		expect((await res.json()).error.fields).toHaveProperty('label');
+	});
+
+	it('viewers may not freeze', async () => {
+		const res = await viewer.json(api(), 'POST', { label: 'not mine' });
+		expect(res.status).toBe(403);
+	});
+});
+
+describe('comparison of two baselines', () => {
+	it('lists exactly the scripted changes', async () => {
+		const t = await createTeam();
+		const c = await signedIn(t.users.certifier.email, t.users.certifier.password);
+		const pid = t.project.id;
+		const mA = await createModel(pid, { name: 'Propeller governor' });
+		const mB = await createModel(pid, { name: 'DC-link converter' });
+		await createModelVersion(mA.id, lagModel(1, 0.1));
+		const mB1 = await createModelVersion(mB.id, lagModel(1, 0.3));
+		const r1 = await createRequirement(pid, { title: 'Governor stability', level: 'system' });
+		await createSpec(r1.id, { modelId: mA.id, check: { type: 'popov', sector: [0, 2] } });
+		await run(r1.id, 'pass', 3);
+		const r2 = await createRequirement(pid, { title: 'Converter sector', level: 'subsystem' });
+		await linkRequirements(r2.id, r1.id);
+		await createSpec(r2.id, { modelId: mB.id, check: { type: 'popov', sector: [0, 1.5] } });
+		const run2a = await run(r2.id, 'pass', 2.5);
+		const r3 = await createRequirement(pid, { title: 'Converter rig', level: 'loop', methods: ['test'] });
+		const ev = await createEvidence(pid, [r3.id], { title: 'Converter sweep' });
+
+		const post = async (label: string) => {
+			const res = await c.json(`/api/v1/projects/${t.project.key}/baselines`, 'POST', { label });
+			expect(res.status).toBe(201);
+			return (await res.json()) as Summary;
+		};
+		const b1 = await post('before');
+
+		// The script: one text revision, one new model version with a failing re-run, one new link,
+		// one evidence review, one new requirement.
+		await reviseRequirement(r3.id, { statement: 'The converter loop shall remain stable on the rig.' });
+		const mB2 = await createModelVersion(mB.id, lagModel(4, 0.3));
+		const run2b = await run(r2.id, 'fail', 1.2);
+		await linkRequirements(r3.id, r1.id);
+		await reviewEvidence(ev.fileId, 'accepted');
+		const r4 = await createRequirement(pid, { title: 'Inspection of wiring', methods: ['inspection'] });
+		const b2 = await post('after');
+
+		const res = await c.get(`/p/${t.project.key}/baselines/compare?from=${b1.id}&to=${b2.id}`, {
+			accept: 'text/html'
+		});
+		expect(res.status).toBe(200);
+		const { compare } = await import('../../../src/lib/server/baselines/service');
+		const { comparison } = await compare(pid, b1.id, b2.id);
+		expect(comparison.requirements.added).toEqual([
+			{ identifier: r4.identifier, title: 'Inspection of wiring' }
+		]);
+		expect(comparison.requirements.removed).toEqual([]);
+		expect(comparison.unchanged).toBe(1);
+		const changed = Object.fromEntries(
+			comparison.requirements.changed.map((r) => [
+				r.identifier,
+				r.changes.map((ch) => [ch.field, ch.before, ch.after])
+			])
+		);
+		expect(Object.keys(changed).sort()).toEqual([r2.identifier, r3.identifier].sort());
+		expect(changed[r2.identifier]).toEqual([
+			[
+				'model version',
+				`DC-link converter v1 (${mB1.hash.slice(0, 12)})`,
+				`DC-link converter v2 (${mB2.hash.slice(0, 12)})`
+			],
+			['latest verdict', `pass (run ${run2a.id})`, `fail (run ${run2b.id})`],
+			[
+				'certified numbers',
+				'certified upper bound 2.5 vs required 1.5',
+				'certified upper bound 1.2 vs required 1.5'
+			],
+			['state', 'Verified by analysis only', 'Failing']
+		]);
+		expect(changed[r3.identifier]).toEqual([
+			['revision', '1', '2'],
+			[
+				'statement',
+				'The loop shall remain absolutely stable for every gain in the sector [0.5, 2].',
+				'The converter loop shall remain stable on the rig.'
+			],
+			['derived from', '', r1.identifier],
+			['evidence', `#${ev.id} r1 awaiting review`, `#${ev.id} r1 accepted`],
+			['state', 'Not covered', 'Verified by test only']
+		]);
+		expect(comparison.modelVersions).toEqual({
+			added: [`DC-link converter v2 (${mB2.hash.slice(0, 12)})`],
+			removed: []
+		});
+		expect(comparison.links).toEqual({
+			added: [`${r3.identifier} derived from ${r1.identifier}`],
+			removed: []
+		});
+		expect(comparison.evidence.added).toEqual([]);
+		expect(
+			comparison.evidence.changed.map((e) => [
+				e.before.endsWith('awaiting review'),
+				e.after.endsWith('accepted')
+			])
+		).toEqual([[true, true]]);
+
+		// The other way round the new requirement is removed; against the current state nothing changed.
+		const back = await compare(pid, b2.id, b1.id);
+		expect(back.comparison.requirements.removed).toEqual([
+			{ identifier: r4.identifier, title: 'Inspection of wiring' }
+		]);
+		const now = await compare(pid, b2.id, 'now');
+		expect(now.to.hash).toBe(b2.manifest_hash);
+		expect(now.comparison.requirements.changed).toEqual([]);
+	});
+});
+
+describe('baseline export', () => {
+	it('writes the frozen manifest as the same workbook, with the baseline on the cover', async () => {
+		const ExcelJS = (await import('exceljs')).default;
+		const list = (await (await viewer.get(api(), { accept: 'application/json' })).json())
+			.baselines as Summary[];
+		const first = list[list.length - 1];
+		const res = await viewer.get(`${api()}/${first.id}/trace-matrix.xlsx`);
+		expect(res.status).toBe(200);
+		const wb = new ExcelJS.Workbook();
+		await wb.xlsx.load(Buffer.from(await res.arrayBuffer()) as never);
+		const cover = wb.getWorksheet('Cover')!;
+		const values: Record<string, string> = {};
+		cover.eachRow((row) => {
+			values[String(row.getCell(1).value ?? '')] = String(row.getCell(2).value ?? '');
+		});
+		expect(values.Baseline).toBe(`#${first.number} start`);
+		expect(values['Manifest SHA-256']).toBe(first.manifest_hash);
+		// The first baseline was frozen before a3's revision and before the later requirement.
+		const matrix = wb.getWorksheet('Trace matrix')!;
+		expect(matrix.rowCount - 1).toBe(3);
+		const reqs = wb.getWorksheet('Requirements')!;
+		const a3row = reqs.getRows(2, 3)!.find((r) => r.getCell(1).value === a3.identifier)!;
+		expect(a3row.getCell(2).value).toBe(1);
+	});
+});
