@@ -226,6 +226,10 @@ describe('revisions', () => {
 			statement: 'The loop shall remain absolutely stable for every gain in [0.5, TBD].'
 		});
 		const id = json.requirement.id;
+		// The API carries the same hints the form shows; the placeholder is the blocker.
+		expect(json.requirement.quality).toContainEqual(
+			expect.objectContaining({ rule: 'placeholder', severity: 'blocker' })
+		);
 		const res = await eng.json(api(`/requirements/${id}`), 'PATCH', { revision: 1, status: 'approved' });
 		expect(res.status).toBe(422);
 		const err = (await res.json()).error;
@@ -316,6 +320,9 @@ describe('stability specification', () => {
 		});
 		expect(first.status).toBe(201);
 		const s1 = (await first.json()).specification;
+		const read = (await (await viewer.get(api(`/requirements/${r.id}`))).json()).requirement;
+		expect(read.consistency.status).toBe('consistent');
+		expect(read.specification.id).toBe(s1.id);
 		expect(s1).toMatchObject({
 			version: 1,
 			modelId,

@@ -271,7 +271,10 @@ export const models = {
 	/** Taken by a specification edit, the same lock a publish takes: the two are serialised, so the
 	 * edit sees the newest version or the publish sees the new specification, and no run is lost. */
 	lock: (db: Db, id: number) =>
-		db('models').where({ id }).forNoKeyUpdate().first('id', 'project_id', 'name', 'latest_version') as Promise<
+		db('models')
+			.where({ id })
+			.forNoKeyUpdate()
+			.first('id', 'project_id', 'name', 'latest_version') as Promise<
 			{ id: number; project_id: number; name: string; latest_version: number } | undefined
 		>,
 	inProject: (db: Db, projectId: number) =>

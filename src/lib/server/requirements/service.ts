@@ -1,5 +1,6 @@
 import { createHash } from 'node:crypto';
-import { approvalBlockers } from '../../requirements/quality';
+import { checkConsistency } from '../../requirements/consistency';
+import { approvalBlockers, qualityHints } from '../../requirements/quality';
 import { enqueueForRequirement } from '../analyses/queue';
 import { analysisStates, type AnalysisStateInfo } from '../analyses/state';
 import { canonical, historyOf, recordEvent, type Actor } from '../audit';
@@ -243,6 +244,13 @@ export async function getRequirement(id: number) {
 		changeNote: v.change_note,
 		contentHash: v.content_hash,
 		specification: current ? specView(current) : null,
+		quality: qualityHints(v.statement),
+		consistency: current
+			? checkConsistency(v.statement, {
+					check: current.check as never,
+					requiredMargin: current.required_margin
+				})
+			: null,
 		parents: around
 			.filter((l) => Number(l.child_id) === id)
 			.map((l) => ({
