@@ -150,6 +150,14 @@ describe('publishing a model version', () => {
 			expect(r.curves.points[0].nyquist.length).toBeGreaterThan(50);
 			expect(r.curves.sector.kind).toBe('half-plane');
 		}
+		// Each job was completed in the transaction that stored its run's result.
+		const jobStates = (
+			await testDb().raw(
+				`select state from pgboss.job where name = 'analysis-run' and (data->>'runId')::bigint = any(?::bigint[])`,
+				[[rp.id, rf.id]]
+			)
+		).rows.map((x: { state: string }) => x.state);
+		expect(jobStates).toEqual(['completed', 'completed']);
 		expect(rp.verdict).toBe('pass');
 		expect(rf.verdict).toBe('fail');
 		expect(rf.result.criticalFrequency).toBeCloseTo(1, 3);

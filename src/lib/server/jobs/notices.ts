@@ -51,12 +51,13 @@ export async function afterRunFinished(trx: Db, run: FinishedRun): Promise<numbe
 	);
 	if (claimed.rows.length === 0) return 0;
 
+	// Each run of the change with the outcome before it: the requirement's newest finished run outside
+	// this change that finished no later than it.
 	const group: {
 		id: number;
 		requirement_id: number;
 		status: string;
 		verdict: string | null;
-		finished_at: Date;
 		worst_point: string | null;
 		identifier: string;
 		title: string;
@@ -66,40 +67,37 @@ export async function afterRunFinished(trx: Db, run: FinishedRun): Promise<numbe
 		model_version: number;
 		project_key: string;
 		trigger: string;
+		prev_status: string | null;
+		prev_verdict: string | null;
 	}[] = (
 		await trx.raw(
-			`select ar.id, ar.requirement_id, ar.status, ar.verdict, ar.finished_at, ar.worst_point, ar.trigger,
+			`with g as (select * from analysis_runs where ${run.trigger_ref ? 'trigger_ref = ?' : 'id = ?'})
+			select g.id, g.requirement_id, g.status, g.verdict, g.worst_point, g.trigger,
 				r.identifier, rr.title, rr.owner_id as req_owner, m.owner_id as model_owner, m.name as model_name,
-				mv.version as model_version, p.key as project_key
-			from analysis_runs ar
-			join requirements r on r.id = ar.requirement_id
+				mv.version as model_version, p.key as project_key, prev.status as prev_status, prev.verdict as prev_verdict
+			from g
+			join requirements r on r.id = g.requirement_id
 			join requirement_revisions rr on rr.requirement_id = r.id and rr.revision = r.current_revision
-			join model_versions mv on mv.id = ar.model_version_id
+			join model_versions mv on mv.id = g.model_version_id
 			join models m on m.id = mv.model_id
-			join projects p on p.id = ar.project_id
-			where ${run.trigger_ref ? 'ar.trigger_ref = ?' : 'ar.id = ?'}
+			join projects p on p.id = g.project_id
+			left join lateral (
+				select x.status, x.verdict from analysis_runs x
+				where x.requirement_id = g.requirement_id and x.status in ('done', 'error')
+					and x.id not in (select id from g) and x.finished_at <= g.finished_at
+				order by x.finished_at desc, x.id desc limit 1
+			) prev on true
 			order by r.number`,
 			[run.trigger_ref ?? run.id]
 		)
 	).rows;
 	if (group.length === 0) return 0;
-	const ids = group.map((g) => Number(g.id));
 
 	const changes: { run: (typeof group)[number]; from: Outcome | null; to: Outcome }[] = [];
 	for (const g of group) {
 		const to = outcomeOf(g);
 		if (!to) continue;
-		const prev = await trx('analysis_runs')
-			.where({ requirement_id: g.requirement_id })
-			.whereIn('status', ['done', 'error'])
-			.whereNotIn('id', ids)
-			.where('finished_at', '<=', g.finished_at)
-			.orderBy([
-				{ column: 'finished_at', order: 'desc' },
-				{ column: 'id', order: 'desc' }
-			])
-			.first('status', 'verdict');
-		const from = prev ? outcomeOf(prev) : null;
+		const from = g.prev_status ? outcomeOf({ status: g.prev_status, verdict: g.prev_verdict }) : null;
 		// A first verdict counts as a change unless it is a pass (nothing to act on).
 		if (from === to || (from === null && to === 'pass')) continue;
 		changes.push({ run: g, from, to });

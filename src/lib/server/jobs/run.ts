@@ -1,9 +1,10 @@
 import { ModelInputError } from '../../stability/index';
 import { computeRun } from '../analyses/compute';
+import type { Knex } from 'knex';
 import { db } from '../db';
 import { kickMail } from '../mail';
 import { afterRunFinished } from './notices';
-import { runJobPolicy } from './boss';
+import { RUN_QUEUE, getBoss, knexExecutor, runJobPolicy } from './boss';
 
 // Execute one analysis run. Safe to call twice for the same run (a retried job): a finished run is
 // left alone, and only the first finisher writes the outcome.
@@ -17,11 +18,36 @@ function holdMs(): number {
 	return Number.isFinite(n) && n > 0 ? n : 0;
 }
 
-export async function processRun(runId: number, workerLabel = `pid ${process.pid}`): Promise<RunOutcome> {
+/**
+ * The worker's transactions commit asynchronously (synchronous_commit off): a result is re-derivable,
+ * and the job's completion commits in the same transaction as the result, so after a crash of the
+ * database server either both are there or the job is still open and the run is done again.
+ */
+async function relaxed(trx: Knex.Transaction) {
+	await trx.raw('set local synchronous_commit = off');
+}
+
+/**
+ * Run one analysis. With `jobId`, the pg-boss job is completed in the transaction that stores the
+ * result (then the caller must not complete it again).
+ */
+export async function processRun(
+	runId: number,
+	workerLabel = `pid ${process.pid}`,
+	opts: { jobId?: string } = {}
+): Promise<RunOutcome> {
 	const maxAttempts = runJobPolicy().retryLimit + 1;
+	const boss = opts.jobId ? await getBoss() : null;
+	const completeJob = async (trx: Knex.Transaction) => {
+		if (boss && opts.jobId) await boss.complete(RUN_QUEUE, opts.jobId, {}, { db: knexExecutor(trx) });
+	};
 	const claim = await db().transaction(async (trx) => {
+		await relaxed(trx);
 		const run = await trx('analysis_runs').where({ id: runId }).forUpdate().first();
-		if (!run || run.status === 'done' || run.status === 'error') return { run: null, mails: 0 };
+		if (!run || run.status === 'done' || run.status === 'error') {
+			await completeJob(trx);
+			return { run: null, mails: 0 };
+		}
 		if (run.attempts >= maxAttempts) {
 			// Every attempt so far ended without a result (the worker stopped): record it, never lose it.
 			const [done] = await trx('analysis_runs')
@@ -32,6 +58,7 @@ export async function processRun(runId: number, workerLabel = `pid ${process.pid
 					finished_at: trx.fn.now()
 				})
 				.returning(['id', 'trigger_ref']);
+			await completeJob(trx);
 			return { run: null, mails: await afterRunFinished(trx, done) };
 		}
 		const [claimed] = await trx('analysis_runs')
@@ -77,6 +104,8 @@ export async function processRun(runId: number, workerLabel = `pid ${process.pid
 	}
 	const duration = Math.round(performance.now() - t0);
 	const mails = await db().transaction(async (trx) => {
+		await relaxed(trx);
+		await completeJob(trx);
 		const [finished] = await trx('analysis_runs')
 			.where({ id: runId, status: 'running' })
 			.update({ ...update, finished_at: trx.fn.now(), duration_ms: duration })

@@ -19,7 +19,7 @@ export async function startWorker(
 	opts: { batchSize?: number; idleMs?: number; label?: string } = {}
 ): Promise<WorkerHandle> {
 	const label = opts.label ?? `pid ${process.pid}`;
-	const batchSize = opts.batchSize ?? 10;
+	const batchSize = opts.batchSize ?? 20;
 	const idleMs = opts.idleMs ?? 1_000;
 	const boss = await getBoss('worker');
 	const engine = await queueForEngineVersion();
@@ -78,8 +78,9 @@ export async function startWorker(
 			for (const job of jobs) {
 				const runId = Number(job.data?.runId);
 				try {
-					if (Number.isInteger(runId)) await processRun(runId, label);
-					await boss.complete(RUN_QUEUE, job.id);
+					// The job is completed in the transaction that stores the result.
+					if (Number.isInteger(runId)) await processRun(runId, label, { jobId: job.id });
+					else await boss.complete(RUN_QUEUE, job.id);
 				} catch (e) {
 					// The database went away or similar: the job is retried (the run is idempotent).
 					console.error(`[worker ${label}] run ${runId} interrupted: ${(e as Error).message}`);
