@@ -5,6 +5,7 @@
 //   BENCH_REQUIREMENTS=500 BENCH_WORKERS=2
 import { execFileSync, spawn, type ChildProcess } from 'node:child_process';
 import knexFactory from 'knex';
+import { loadavg } from 'node:os';
 import { fileURLToPath } from 'node:url';
 
 const ROOT = fileURLToPath(new URL('../..', import.meta.url));
@@ -37,6 +38,7 @@ export async function reverifySection(): Promise<BenchResult> {
 	const url = new URL(base.toString());
 	url.pathname = `/${name}`;
 	const children: ChildProcess[] = [];
+	const previousUrl = process.env.DATABASE_URL;
 	process.env.DATABASE_URL = url.toString();
 	try {
 		execFileSync(
@@ -139,10 +141,14 @@ export async function reverifySection(): Promise<BenchResult> {
 				finishedRuns: stats.runs,
 				doneRuns: stats.done,
 				avgEngineMsPerRun: Number(stats.avg_ms.toFixed(1)),
-				maxAttempts: stats.max_attempts
+				maxAttempts: stats.max_attempts,
+				// The machine is shared: a high load average means the figure measures contention too.
+				loadAverage1m: Number(loadavg()[0].toFixed(1))
 			}
 		};
 	} finally {
+		if (previousUrl === undefined) delete process.env.DATABASE_URL;
+		else process.env.DATABASE_URL = previousUrl;
 		for (const c of children) {
 			try {
 				process.kill(-c.pid!, 'SIGTERM');
