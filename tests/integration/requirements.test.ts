@@ -482,6 +482,13 @@ describe('bad input', () => {
 			modelId: 1
 		});
 		expect(maxSector.status).toBe(400);
+		const badFilter = await eng.get(
+			api(`/projects/${team.project.key}/requirements?status=done&level=galaxy&color=red`)
+		);
+		expect(badFilter.status).toBe(400);
+		expect(Object.keys((await badFilter.json()).error.fields)).toEqual(
+			expect.arrayContaining(['status', 'level', '_'])
+		);
 		const wrongType = await eng.request(api(`/projects/${team.project.key}/requirements`), {
 			method: 'POST',
 			headers: { 'content-type': 'text/plain' },

@@ -95,6 +95,20 @@ export const listFilters = z.object({
 });
 export type ListFilters = z.infer<typeof listFilters>;
 
+/** The same filters for the API, where a bad value is a 400 naming the parameter rather than ignored. */
+export const listFiltersStrict = z
+	.object({
+		status: z.enum(STATUSES, { error: 'status is one of draft, in-review, approved, retired.' }).optional(),
+		level: z.enum(LEVELS, { error: 'level is one of system, subsystem, loop.' }).optional(),
+		owner: z.coerce
+			.number({ error: 'owner is a user id.' })
+			.int('owner is a user id.')
+			.positive('owner is a user id.')
+			.optional(),
+		q: z.string().trim().max(200, 'q has at most 200 characters.').optional()
+	})
+	.strict();
+
 export const linkForm = z.object({
 	parentId: id('the parent requirement')
 });

@@ -3,20 +3,15 @@ import { endpoint, readJson } from '$lib/server/api';
 import { actorOf } from '$lib/server/audit';
 import { requireRole } from '$lib/server/auth';
 import { parseOrThrow } from '$lib/server/errors';
-import { createRequirement as createSchema, listFilters } from '$lib/server/requirements/schema';
+import { createRequirement as createSchema, listFiltersStrict } from '$lib/server/requirements/schema';
 import { createRequirement, getRequirement, listRequirements } from '$lib/server/requirements/service';
 import type { RequestHandler } from './$types';
 
 // The requirements of a project, each with its analysis state. Filters: ?status=&level=&owner=<user id>&q=
 export const GET = endpoint(async (event) => {
 	const { project } = await requireRole(event, event.params.key!);
-	const sp = event.url.searchParams;
-	const filters = listFilters.parse({
-		status: sp.get('status') || undefined,
-		level: sp.get('level') || undefined,
-		owner: sp.get('owner') || undefined,
-		q: sp.get('q') || undefined
-	});
+	const query = Object.fromEntries([...event.url.searchParams].filter(([, v]) => v !== ''));
+	const filters = parseOrThrow(listFiltersStrict, query);
 	const requirements = await listRequirements(project.id, filters);
 	return json({ project: project.key, count: requirements.length, requirements });
 }) satisfies RequestHandler;
