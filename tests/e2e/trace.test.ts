@@ -72,7 +72,7 @@ describe('trace matrix, export and baseline in the browser', () => {
 		await page.fill('#email', team.users.certifier.email);
 		await page.fill('#password', team.users.certifier.password);
 		await page.click('button:has-text("Sign in")');
-		await page.waitForURL(`**/p/${team.project.key}/trace`);
+		await page.waitForURL(`**/p/${team.project.key}/trace`, { waitUntil: 'commit' });
 
 		// All three rows, then only the system-level one.
 		await page.waitForSelector('[data-testid=matrix-row]');

@@ -1,11 +1,15 @@
 // Words and symbols for the states the trace matrix, the exports and the coverage dashboard show.
 // Shared by server and browser code: no imports.
 
-/** A requirement's combined state: its analysis state together with its reviewed test evidence. */
+/**
+ * A requirement's combined state: its analysis state together with its reviewed test evidence. The
+ * names, words, symbols and rule are those of src/lib/server/evidence/state.ts (combinedStates), repeated
+ * here because that module is server-only; tests/integration/trace/matrix.test.ts checks they agree.
+ */
 export const COMBINED_STATES = [
-	'verified-both',
-	'verified-analysis',
-	'verified-test',
+	'verified-analysis-and-test',
+	'verified-analysis-only',
+	'verified-test-only',
 	'failing',
 	'pending',
 	'not-covered'
@@ -13,29 +17,29 @@ export const COMBINED_STATES = [
 export type CombinedState = (typeof COMBINED_STATES)[number];
 
 export const COMBINED_LABELS: Record<CombinedState, string> = {
-	'verified-both': 'Verified by analysis and test',
-	'verified-analysis': 'Verified by analysis only',
-	'verified-test': 'Verified by test only',
+	'verified-analysis-and-test': 'Verified by analysis and test',
+	'verified-analysis-only': 'Verified by analysis only',
+	'verified-test-only': 'Verified by test only',
 	failing: 'Failing',
-	pending: 'Pending re-run',
+	pending: 'Pending',
 	'not-covered': 'Not covered'
 };
 
 /** A symbol per state, so the state never rests on colour alone. */
 export const COMBINED_SYMBOLS: Record<CombinedState, string> = {
-	'verified-both': '✔✔',
-	'verified-analysis': '✔',
-	'verified-test': '✔',
-	failing: '✖',
-	pending: '◷',
+	'verified-analysis-and-test': '✓✓',
+	'verified-analysis-only': '✓',
+	'verified-test-only': '✓',
+	failing: '✕',
+	pending: '…',
 	'not-covered': '○'
 };
 
 /** Theme colour names (src/app.css) per state. */
 export const COMBINED_TONES: Record<CombinedState, 'ok' | 'bad' | 'wait' | 'unsure'> = {
-	'verified-both': 'ok',
-	'verified-analysis': 'ok',
-	'verified-test': 'ok',
+	'verified-analysis-and-test': 'ok',
+	'verified-analysis-only': 'ok',
+	'verified-test-only': 'ok',
 	failing: 'bad',
 	pending: 'wait',
 	'not-covered': 'unsure'
@@ -61,15 +65,26 @@ export const ANALYSIS_LABELS: Record<AnalysisStateName, string> = {
 };
 
 /**
- * The combined state from the analysis state and the evidence: a failing or pending analysis decides;
- * otherwise a pass and accepted evidence each count as one leg of verification.
+ * The combined state: a failing analysis decides; a pass and accepted evidence each count as one leg
+ * of verification; an analysis pending, inconclusive or in error, or evidence awaiting review, is
+ * pending; otherwise not covered.
  */
-export function combine(analysis: AnalysisStateName, acceptedEvidence: number): CombinedState {
+export function combine(
+	analysis: AnalysisStateName,
+	evidence: { accepted: number; unreviewed: number }
+): CombinedState {
 	if (analysis === 'failing') return 'failing';
-	if (analysis === 'pending') return 'pending';
-	const byTest = acceptedEvidence > 0;
-	if (analysis === 'verified') return byTest ? 'verified-both' : 'verified-analysis';
-	return byTest ? 'verified-test' : 'not-covered';
+	const byTest = evidence.accepted > 0;
+	if (analysis === 'verified') return byTest ? 'verified-analysis-and-test' : 'verified-analysis-only';
+	if (byTest) return 'verified-test-only';
+	if (
+		analysis === 'pending' ||
+		analysis === 'inconclusive' ||
+		analysis === 'error' ||
+		evidence.unreviewed > 0
+	)
+		return 'pending';
+	return 'not-covered';
 }
 
 export const OPEN_ITEM_LABELS = {

@@ -285,7 +285,7 @@ describe('comparison of two baselines', () => {
 			],
 			['derived from', '', r1.identifier],
 			['evidence', `#${ev.id} r1 awaiting review`, `#${ev.id} r1 accepted`],
-			['state', 'Not covered', 'Verified by test only']
+			['state', 'Pending', 'Verified by test only']
 		]);
 		expect(comparison.modelVersions).toEqual({
 			added: [`DC-link converter v2 (${mB2.hash.slice(0, 12)})`],

@@ -2,6 +2,7 @@ import ExcelJS from 'exceljs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { CAUTION_TEXT } from '../../../src/lib/caution';
 import { analysisStates } from '../../../src/lib/server/analyses/state';
+import { combinedStates } from '../../../src/lib/server/evidence/state';
 import type { MatrixRow } from '../../../src/lib/server/trace/service';
 import { ENGINE_VERSION } from '../../../src/lib/stability/index';
 import { closeTestDb, testDb } from '../../factories';
@@ -30,7 +31,7 @@ async function page(query = '') {
 describe('trace matrix API', () => {
 	it('gives each requirement the state its inputs imply', async () => {
 		const body = await page('?limit=50');
-		expect(body.total).toBe(6);
+		expect(body.total).toBe(7);
 		const got = Object.fromEntries(body.rows.map((r) => [r.identifier, r.state]));
 		expect(got).toEqual(s.expectedStates);
 	});
@@ -40,6 +41,15 @@ describe('trace matrix API', () => {
 		const ids = body.rows.map((r) => r.id);
 		const theirs = await analysisStates(testDb(), ids);
 		for (const r of body.rows) expect(r.analysisState).toBe(theirs.get(r.id)?.state);
+	});
+
+	it('agrees with combinedStates() (the evidence module) on every requirement', async () => {
+		const body = await page('?limit=50');
+		const theirs = await combinedStates(
+			testDb(),
+			body.rows.map((r) => r.id)
+		);
+		for (const r of body.rows) expect(r.state, r.identifier).toBe(theirs.get(r.id)?.state);
 	});
 
 	it('carries links, model version, certified numbers, evidence and open items', async () => {
@@ -63,18 +73,20 @@ describe('trace matrix API', () => {
 	});
 
 	it('filters by state, level, method, owner and text, sorts and pages', async () => {
-		const { r1, r2, r3, r4, r5, r6 } = s.reqs;
+		const { r1, r2, r3, r4, r5, r6, r7 } = s.reqs;
 		const ids = (b: { rows: { identifier: string }[] }) => b.rows.map((r) => r.identifier);
-		expect(ids(await page('?state=failing,pending'))).toEqual([r2.identifier, r3.identifier]);
+		expect(ids(await page('?state=failing,pending'))).toEqual([r2.identifier, r3.identifier, r4.identifier]);
 		expect(ids(await page('?level=system'))).toEqual([r1.identifier, r5.identifier]);
 		expect(ids(await page('?method=test'))).toEqual([r1.identifier, r4.identifier, r5.identifier]);
 		expect(ids(await page(`?owner=${s.team.users.engineer.id}`))).toEqual([r1.identifier, r2.identifier]);
 		expect(ids(await page('?q=rudder'))).toEqual([r2.identifier]);
 		expect(ids(await page('?q=TBD'))).toEqual([r4.identifier]);
-		expect(ids(await page('?sort=identifier&dir=desc&limit=2'))).toEqual([r6.identifier, r5.identifier]);
+		expect(ids(await page('?sort=identifier&dir=desc&limit=2'))).toEqual([r7.identifier, r6.identifier]);
+		expect(ids(await page('?state=not-covered'))).toEqual([r7.identifier]);
+		expect(ids(await page('?sort=state&limit=3'))).toEqual([r2.identifier, r3.identifier, r4.identifier]);
 		const second = await page('?limit=2&offset=2');
 		expect(ids(second)).toEqual([r3.identifier, r4.identifier]);
-		expect(second.total).toBe(6);
+		expect(second.total).toBe(7);
 	});
 
 	it('refuses bad parameters with 400 naming the field', async () => {
@@ -93,7 +105,7 @@ describe('trace matrix API', () => {
 			.trim()
 			.split('\n')
 			.map((l) => JSON.parse(l));
-		expect(lines[0]).toEqual({ total: 6, pending: 1 });
+		expect(lines[0]).toEqual({ total: 7, pending: 1 });
 		expect(lines.slice(1).map((r) => r.identifier)).toEqual(Object.keys(s.expectedStates));
 	});
 });
@@ -217,9 +229,9 @@ describe('spreadsheet export', () => {
 			expect(text(row['Latest verdict'])).toBe(run ? words[run.verdict] : '');
 		}
 		const state = Object.fromEntries(rows.map((r) => [text(r.Identifier), text(r.State)]));
-		expect(state[s.reqs.r1.identifier]).toBe('✔✔ Verified by analysis and test');
-		expect(state[s.reqs.r2.identifier]).toBe('✖ Failing');
-		expect(state[s.reqs.r3.identifier]).toBe('◷ Pending re-run');
+		expect(state[s.reqs.r1.identifier]).toBe('✓✓ Verified by analysis and test');
+		expect(state[s.reqs.r2.identifier]).toBe('✕ Failing');
+		expect(state[s.reqs.r3.identifier]).toBe('… Pending');
 		expect(rows.find((r) => r.Identifier === s.reqs.r1.identifier)).toMatchObject({
 			Certified: 3.125,
 			Required: 2.4
@@ -330,7 +342,7 @@ describe('spreadsheet export', () => {
 			.orderBy('seq', 'desc')
 			.first();
 		expect(e).toMatchObject({ actor_label: s.team.users.viewer.email, subject_type: 'project' });
-		expect(e.after).toMatchObject({ format: 'xlsx', rows: 6 });
+		expect(e.after).toMatchObject({ format: 'xlsx', rows: 7 });
 	});
 
 	it('the CSV has the matrix sheet cells', async () => {

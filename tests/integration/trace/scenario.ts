@@ -109,20 +109,30 @@ export async function buildScenario() {
 		}
 	});
 
+	const r7 = await createRequirement(pid, {
+		title: 'Harness inspection',
+		level: 'loop',
+		assurance: 'E',
+		methods: ['inspection']
+	});
+
 	return {
 		team,
 		model,
 		v1,
-		reqs: { r1, r2, r3, r4, r5, r6 },
+		reqs: { r1, r2, r3, r4, r5, r6, r7 },
 		runs: { run1, run2 },
 		evidence: { ev1, ev4a, ev4b, ev5 },
 		expectedStates: {
-			[r1.identifier]: 'verified-both',
+			[r1.identifier]: 'verified-analysis-and-test',
 			[r2.identifier]: 'failing',
+			// no run yet for the current inputs
 			[r3.identifier]: 'pending',
-			[r4.identifier]: 'not-covered',
-			[r5.identifier]: 'verified-test',
-			[r6.identifier]: 'verified-analysis'
+			// evidence awaiting review
+			[r4.identifier]: 'pending',
+			[r5.identifier]: 'verified-test-only',
+			[r6.identifier]: 'verified-analysis-only',
+			[r7.identifier]: 'not-covered'
 		} as Record<string, string>
 	};
 }

@@ -69,7 +69,7 @@ const SORTS: Record<string, string> = {
 	level: "array_position(array['system','subsystem','loop'], level)",
 	assurance: 'assurance_level',
 	state:
-		"array_position(array['failing','pending','not-covered','verified-test','verified-analysis','verified-both'], combined_state)",
+		"array_position(array['failing','pending','not-covered','verified-test-only','verified-analysis-only','verified-analysis-and-test'], combined_state)",
 	owner: 'lower(owner_name)',
 	lastChange: 'last_change'
 };
@@ -173,10 +173,10 @@ stated as (
 	select j.*,
 		case
 			when analysis_state = 'failing' then 'failing'
-			when analysis_state = 'pending' then 'pending'
-			when analysis_state = 'verified' and evidence_accepted > 0 then 'verified-both'
-			when analysis_state = 'verified' then 'verified-analysis'
-			when evidence_accepted > 0 then 'verified-test'
+			when analysis_state = 'verified' and evidence_accepted > 0 then 'verified-analysis-and-test'
+			when analysis_state = 'verified' then 'verified-analysis-only'
+			when evidence_accepted > 0 then 'verified-test-only'
+			when analysis_state in ('pending', 'inconclusive', 'error') or evidence_unreviewed > 0 then 'pending'
 			else 'not-covered'
 		end as combined_state
 	from joined j

@@ -289,7 +289,10 @@ function toSnapshotRow(r: repo.MatrixDbRow): SnapshotRequirement {
 
 // Guard against drift between the SQL and combine(): the SQL decides filters, combine() documents.
 function checkCombined(r: repo.MatrixDbRow) {
-	const expected = combine(r.analysis_state as AnalysisStateName, r.evidence_accepted);
+	const expected = combine(r.analysis_state as AnalysisStateName, {
+		accepted: r.evidence_accepted,
+		unreviewed: r.evidence_unreviewed
+	});
 	if (expected !== r.combined_state)
 		throw new Error(`combined state of ${r.identifier}: SQL ${r.combined_state}, rule ${expected}`);
 }
