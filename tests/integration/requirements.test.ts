@@ -1,4 +1,4 @@
-import { createHash } from 'node:crypto';
+import { createHash, randomBytes } from 'node:crypto';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { closeTestDb, createTeam, testDb, unique } from '../factories';
 import { Client, signedIn } from '../helpers/http';
@@ -523,6 +523,48 @@ describe('bad input', () => {
 		expect((await new Client().get(api('/requirements/999999999'))).status).toBe(401);
 		const denied = await create({}, viewer);
 		expect(denied.status).toBe(403);
+	});
+});
+
+describe('API tokens', () => {
+	async function token(userId: number, projectId: number, role: string) {
+		const t = randomBytes(24).toString('base64url');
+		const [row] = await testDb()('api_tokens')
+			.insert({
+				user_id: userId,
+				project_id: projectId,
+				role,
+				label: 'pipeline',
+				token_hash: createHash('sha256').update(t, 'utf8').digest('hex')
+			})
+			.returning('id');
+		return { header: { authorization: `Bearer ${t}` }, id: Number(row.id) };
+	}
+
+	it('a token acts with its own role in its own project, and the audit names the token', async () => {
+		const c = new Client();
+		const read = await token(Number(team.users.engineer.id), team.project.id, 'viewer');
+		const write = await token(Number(team.users.engineer.id), team.project.id, 'engineer');
+		const list = await c.get(api(`/projects/${team.project.key}/requirements`), read.header);
+		expect(list.status).toBe(200);
+		expect(
+			(await c.json(api(`/projects/${team.project.key}/requirements`), 'POST', body(), read.header)).status
+		).toBe(403);
+		const created = await c.json(
+			api(`/projects/${team.project.key}/requirements`),
+			'POST',
+			body(),
+			write.header
+		);
+		expect(created.status).toBe(201);
+		const id = (await created.json()).requirement.id;
+		const ev = await testDb()('audit_events')
+			.where({ subject_type: 'requirement', subject_id: String(id), action: 'requirement.create' })
+			.first();
+		expect(ev.actor_label).toBe(`token ${write.id} of ${team.users.engineer.email}`);
+		expect(Number(ev.actor_token_id)).toBe(write.id);
+		// Scoped to one project: the other project's list is refused.
+		expect((await c.get(api(`/projects/${team.other.key}/requirements`), write.header)).status).toBe(403);
 	});
 });
 
