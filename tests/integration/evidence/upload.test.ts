@@ -319,6 +319,41 @@ describe('evidence upload', () => {
 	});
 });
 
+describe('upload with an API token', () => {
+	it('works with a project-scoped token (and the Origin header SvelteKit requires for multipart posts)', async () => {
+		const t = await engineer.action('/account?/createToken', {
+			projectKey: team.project.key,
+			role: 'engineer',
+			label: 'rig pipeline'
+		});
+		expect(t.type, JSON.stringify(t)).toBe('success');
+		const token = String(t.data?.token);
+		const bytes = Buffer.from('pipeline log\n');
+		const fd = () => evidenceForm(fields(unique('token ')), { name: 'p.txt', bytes });
+		const api = new Client();
+		api.cookies.clear();
+		const ok = await api.request(url(), {
+			method: 'POST',
+			headers: { authorization: `Bearer ${token}`, accept: 'application/json' },
+			body: fd()
+		});
+		expect(ok.status).toBe(201);
+		const rec = await ok.json();
+		expect(rec.sha256).toBe(sha256(bytes));
+		const row = await testDb()('audit_events')
+			.where({ action: 'evidence.upload', subject_id: String(rec.id) })
+			.first();
+		expect(row.actor_token_id).not.toBeNull();
+		// Without the Origin header the framework's cross-site form check refuses the post before our code runs.
+		const noOrigin = await fetch(env.baseUrl + url(), {
+			method: 'POST',
+			headers: { authorization: `Bearer ${token}` },
+			body: fd()
+		});
+		expect(noOrigin.status).toBe(403);
+	});
+});
+
 describe('accepted evidence is frozen', () => {
 	it('refuses a new revision through the API and every change at the database', async () => {
 		const res = await postForm(
