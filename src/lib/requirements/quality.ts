@@ -182,7 +182,7 @@ export const COMBINATORS = ['and', 'or', 'unless', 'but', 'whereas', 'otherwise'
 // Units recognised after a number ([INCOSE] R6 common units, R33 range of values, R34 measurable performance).
 const UNIT =
 	'(?:dB|deg(?:rees?)?|°C?|%|per\\s?cent|Hz|kHz|MHz|rad/s|rad|rpm|s|ms|µs|us|ns|min|h|hours?|minutes?|seconds?|' +
-	'm/s²?|m/s\\^?2|m/s|km/h|kt|knots?|ft|mm|cm|km|m|kg|g|t|N·?m|Nm|kN|N|kV|mV|V|mA|kA|A|kW|MW|W|kWh|Wh|Pa|kPa|MPa|bar|K|C|' +
+	'm/s²?|m/s\\^?2|m/s|km/h|kn|kt|knots?|ft|mm|cm|km|m|kg|g|t|N·?m|Nm|kN|N|kV|mV|V|mA|kA|A|kW|MW|W|kWh|Wh|Pa|kPa|MPa|bar|K|C|' +
 	'times|x|samples?|cycles?|bits?|bytes?)';
 const NUM = '[-+±−]?\\d+(?:\\.\\d+)?(?:[eE][-+]?\\d+)?';
 const NUMBER_RE = new RegExp(`(?<![\\w.\\-/])${NUM}`, 'g');
@@ -191,6 +191,15 @@ const UNIT_AFTER = new RegExp(`^\\s?${UNIT}(?![A-Za-z0-9])`);
 const INTERVAL_RE = /[[(]\s*([^\][(),;]{1,24}?)\s*[,;]\s*([^\][(),;]{1,24}?)\s*[\])]/g;
 const BETWEEN_RE = new RegExp(`\\bbetween\\s+(${NUM})\\s*(?:${UNIT})?\\s+and\\s+(${NUM})`, 'gi');
 const NUMERIC_BOUND = new RegExp(`^(?:${NUM}|[-+]?(?:∞|inf|infinity))$`, 'i');
+
+// Words after which a bare number is a quantity, not the name of an item.
+const QUANTITY_WORDS = new Set(
+	(
+		'to of than within least most below above under over exceed exceeds exceeding be is are equal equals by from ' +
+		'and or after for up down maximum minimum max min limit limited limits at have has with hold holds keep keeps ' +
+		'take takes use uses reach reaches tolerate tolerates exactly only every per than'
+	).split(' ')
+);
 
 export interface Interval extends Found {
 	bounds: [string, string];
@@ -357,6 +366,14 @@ export function qualityHints(statement: string): QualityHint[] {
 		// "-50 %/+80 %" and "6 dB / 45°" carry units; "1:2" ratios and "2nd" ordinals are not measures.
 		if (/^(?:st|nd|rd|th)\b/i.test(rest) || /^:\d/.test(rest)) continue;
 		if (/^\s?[A-Za-z]/.test(rest) && /^\s?[A-Za-z]+-/.test(rest)) continue; // "3-axis"
+		// A small whole number after a noun names an item ("rotor 1", "mode 2"), unless the word before
+		// it asks for a quantity ("of 2", "below 3", "have 4").
+		if (/^\d{1,2}$/.test(f.text)) {
+			const before = /([A-Za-z]+)\s+$/
+				.exec(text.slice(Math.max(0, f.start - 30), f.start))?.[1]
+				?.toLowerCase();
+			if (before && !QUANTITY_WORDS.has(before)) continue;
+		}
 		add(
 			'number-unit',
 			f,

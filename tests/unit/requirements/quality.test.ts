@@ -121,6 +121,14 @@ describe('quality hints (DOMAIN.md §7)', () => {
 		expect(rules('The loop shall keep ±6 dB of gain margin.')).not.toContain('number-unit');
 		expect(rules('The actuator gain shall stay within −50 %/+80 % of nominal.')).not.toContain('number-unit');
 		expect(rules('The loop of VX7-003 shall meet ARP4754A.')).not.toContain('number-unit');
+		// A small whole number naming an item is not a measure; one asked for as a quantity is.
+		expect(rules('The rotor 1 speed loop shall remain stable at 60 kn.')).not.toContain('number-unit');
+		expect(spanned('The loop gain shall be limited to 2 at every operating point.', 'number-unit')).toEqual([
+			'2'
+		]);
+		expect(spanned('The loop shall keep 3 of its poles in the left half-plane.', 'number-unit')).toEqual([
+			'3'
+		]);
 	});
 
 	it('TBD / TBR / TBS are blockers of approval; the rest are hints', () => {
