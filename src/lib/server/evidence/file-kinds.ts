@@ -120,6 +120,8 @@ export async function decideKind(name: string, head: Uint8Array): Promise<FileKi
 	}
 	const got = sniffed?.ext === 'jpg' ? 'jpeg' : sniffed?.ext;
 	if (got === claimed) return claimed;
+	// An Office Open XML file is a ZIP container: one named .zip is kept as a ZIP.
+	if (claimed === 'zip' && (got === 'xlsx' || got === 'docx' || got === 'pptx')) return 'zip';
 	// file-type only recognises an Office file when its part list is near the start; a spreadsheet whose
 	// first entries are elsewhere is still a ZIP container underneath.
 	if (
