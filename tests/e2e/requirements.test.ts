@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto';
 import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { addMember, closeTestDb, createProject, createUser, testDb } from '../factories';
@@ -79,6 +80,54 @@ describe.each([true, false])('new requirement in the browser (JavaScript %s)', (
 			methods: ['analysis', 'test'],
 			owner_id: u.id,
 			level: 'loop'
+		});
+
+		// The specification from a template: with JavaScript the link fills the form in place; without,
+		// it reloads the page with the template's values. The statement says [0.5, 1.8]: the -50 %/+80 %
+		// template agrees with it, the ±6 dB one does not.
+		const content = {
+			operatingPoints: [{ label: 'hover', model: { kind: 'tf', num: [1], den: [0.05, 1] } }]
+		};
+		const [m] = await testDb()('models')
+			.insert({ project_id: p.id, name: 'yaw vane actuator', latest_version: 1 })
+			.returning('id');
+		await testDb()('model_versions').insert({
+			model_id: m.id,
+			version: 1,
+			content: JSON.stringify(content),
+			content_hash: createHash('sha256').update(JSON.stringify(content)).digest('hex')
+		});
+		await page.reload();
+		const useTemplate = async (id: string) => {
+			if (!(await page.isVisible(`a[data-template=${id}]`)))
+				await page.click('summary:has-text("Start from a template")');
+			await page.click(`a[data-template=${id}]`);
+		};
+		const k2Is = (v: string) =>
+			page.waitForFunction(
+				(want) => (document.querySelector('#k2') as HTMLInputElement | null)?.value === want,
+				v
+			);
+		await useTemplate('gain-6db');
+		await k2Is('1.996');
+		if (javaScriptEnabled) {
+			expect(await page.textContent('[data-testid=live-consistency]')).toContain('[0.501, 1.996]');
+		}
+		await useTemplate('gain-50-80');
+		await k2Is('1.8');
+		expect(await page.inputValue('#k1')).toBe('0.5');
+		await page.click('button:has-text("Save the specification")');
+		await page.waitForSelector('[data-testid=spec-summary]');
+		expect(await page.textContent('[data-testid=spec-summary]')).toContain('sector [0.5, 1.8]');
+		expect(await page.getAttribute('[data-testid=consistency]', 'data-status')).toBe('consistent');
+		const spec = await testDb()('stability_specs as s')
+			.join('requirements as r', 'r.id', 's.requirement_id')
+			.where('r.project_id', p.id)
+			.first('s.version', 's.template', 's.check');
+		expect(spec).toEqual({
+			version: 1,
+			template: 'gain-50-80',
+			check: { type: 'circle', sector: [0.5, 1.8] }
 		});
 		await ctx.close();
 	}, 60_000);
