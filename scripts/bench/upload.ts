@@ -181,11 +181,17 @@ export async function uploadSection(): Promise<BenchResult> {
 		// The built app, in its own output folders (inside the project, where its packages resolve) so a
 		// concurrent build elsewhere is not disturbed.
 		const buildDir = join(buildWork, 'build');
-		execFileSync('node_modules/.bin/vite', ['build', '--logLevel', 'error'], {
-			cwd: ROOT,
-			env: { ...process.env, BUILD_DIR: buildDir, LW_KIT_OUT_DIR: join(buildWork, 'kit') },
-			stdio: ['ignore', 'ignore', 'inherit']
-		});
+		try {
+			execFileSync('node_modules/.bin/vite', ['build', '--logLevel', 'error'], {
+				cwd: ROOT,
+				env: { ...process.env, BUILD_DIR: buildDir, LW_KIT_OUT_DIR: join(buildWork, 'kit') },
+				stdio: 'pipe'
+			});
+		} catch (e) {
+			throw new Error(`the build failed:\n${(e as { stderr?: Buffer }).stderr?.toString() ?? e}`, {
+				cause: e
+			});
+		}
 		if (!existsSync(buildDir)) throw new Error('the build did not produce ' + buildDir);
 		s3 = await startS3Fake({ port: s3Port, dir: join(work, 's3'), buckets: ['bench-evidence'] });
 		app = spawn('node', [buildDir], {

@@ -79,6 +79,45 @@ describe('evidence file types', () => {
 		expect(() => cut.end()).toThrow(/ends inside a UTF-8 character/);
 	});
 
+	it('agrees with the WHATWG UTF-8 decoder on random bytes, split at random points', () => {
+		// The oracle: Node's TextDecoder in fatal mode (WHATWG Encoding, the RFC 3629 ranges) plus the
+		// control-byte rule. Random bytes biased to the multi-byte lead and continuation ranges.
+		let seed = 12345;
+		const rnd = () => (seed = (seed * 1103515245 + 12345) >>> 0) / 2 ** 32;
+		const pool = [
+			0x41, 0x0a, 0x09, 0x00, 0x7f, 0x80, 0x9f, 0xa0, 0xbf, 0xc0, 0xc2, 0xdf, 0xe0, 0xed, 0xef, 0xf0, 0xf4,
+			0xf5, 0xff
+		];
+		let accepted = 0;
+		for (let n = 0; n < 5000; n++) {
+			const len = 1 + Math.floor(rnd() * 8);
+			const bytes = Uint8Array.from({ length: len }, () =>
+				rnd() < 0.7 ? pool[Math.floor(rnd() * pool.length)] : Math.floor(rnd() * 256)
+			);
+			let oracle = true;
+			try {
+				new TextDecoder('utf-8', { fatal: true }).decode(bytes);
+			} catch {
+				oracle = false;
+			}
+			if (bytes.some((b) => (b < 0x20 && b !== 0x09 && b !== 0x0a && b !== 0x0c && b !== 0x0d) || b === 0x7f))
+				oracle = false;
+			const cut = Math.floor(rnd() * (len + 1));
+			const t = new TextChecker();
+			let ours = true;
+			try {
+				t.push(bytes.subarray(0, cut));
+				t.push(bytes.subarray(cut));
+				t.end();
+			} catch {
+				ours = false;
+			}
+			expect(ours, `bytes ${Buffer.from(bytes).toString('hex')}`).toBe(oracle);
+			if (oracle) accepted++;
+		}
+		expect(accepted).toBeGreaterThan(200);
+	});
+
 	it('sanitises names for storage keys', () => {
 		expect(sanitiseFileName('../../etc/passwd')).toBe('passwd');
 		expect(sanitiseFileName('C:\\rig\\Résumé (final).pdf')).toBe('Resume_final_.pdf');

@@ -49,40 +49,60 @@ export class FileKindError extends Error {
 }
 
 /**
- * Bytes that make a file not text: C0 controls other than tab, line feed, form feed and carriage return,
- * and DEL. (Invalid UTF-8 is caught by the decoder.)
+ * Checks a text file chunk by chunk: valid UTF-8 (the byte ranges of RFC 3629, section 4, so no overlong
+ * forms and no surrogates) and printable. Works on the bytes, without decoding them into strings, so a
+ * large text file makes no garbage. Throws FileKindError at the first bad byte.
  */
-export function hasControlBytes(chunk: Uint8Array): boolean {
-	for (let i = 0; i < chunk.length; i++) {
-		const b = chunk[i];
-		if ((b < 0x20 && b !== 0x09 && b !== 0x0a && b !== 0x0c && b !== 0x0d) || b === 0x7f) return true;
-	}
-	return false;
-}
-
-/** Checks a text file chunk by chunk: valid UTF-8 and printable. Throws FileKindError on the first bad chunk. */
 export class TextChecker {
-	private decoder = new TextDecoder('utf-8', { fatal: true, ignoreBOM: false });
+	private need = 0;
+	private lo = 0x80;
+	private hi = 0xbf;
 	private offset = 0;
 	push(chunk: Uint8Array): void {
-		if (hasControlBytes(chunk)) {
-			throw new FileKindError(
-				`The file is named as text but holds binary control bytes (near byte ${this.offset}).`
-			);
+		let { need, lo, hi } = this;
+		for (let i = 0; i < chunk.length; i++) {
+			const b = chunk[i];
+			if (need === 0) {
+				if (b < 0x80) {
+					if ((b < 0x20 && b !== 0x09 && b !== 0x0a && b !== 0x0c && b !== 0x0d) || b === 0x7f) {
+						throw new FileKindError(
+							`The file is named as text but holds binary control bytes (near byte ${this.offset + i}).`
+						);
+					}
+					continue;
+				}
+				lo = 0x80;
+				hi = 0xbf;
+				if (b >= 0xc2 && b <= 0xdf) need = 1;
+				else if (b === 0xe0) [need, lo] = [2, 0xa0];
+				else if ((b >= 0xe1 && b <= 0xec) || b === 0xee || b === 0xef) need = 2;
+				else if (b === 0xed) [need, hi] = [2, 0x9f];
+				else if (b === 0xf0) [need, lo] = [3, 0x90];
+				else if (b >= 0xf1 && b <= 0xf3) need = 3;
+				else if (b === 0xf4) [need, hi] = [3, 0x8f];
+				else
+					throw new FileKindError(
+						`The file is named as text but is not valid UTF-8 (near byte ${this.offset + i}).`
+					);
+			} else {
+				if (b < lo || b > hi) {
+					throw new FileKindError(
+						`The file is named as text but is not valid UTF-8 (near byte ${this.offset + i}).`
+					);
+				}
+				need--;
+				lo = 0x80;
+				hi = 0xbf;
+			}
 		}
-		try {
-			this.decoder.decode(chunk, { stream: true });
-		} catch {
-			throw new FileKindError(`The file is named as text but is not valid UTF-8 (near byte ${this.offset}).`);
-		}
+		this.need = need;
+		this.lo = lo;
+		this.hi = hi;
 		this.offset += chunk.length;
 	}
 	end(): void {
-		try {
-			this.decoder.decode();
-		} catch {
+		if (this.need !== 0)
 			throw new FileKindError('The file is named as text but ends inside a UTF-8 character.');
-		}
 	}
 }
 

@@ -187,7 +187,7 @@ function storeFile(
 ): Promise<StoredUpload> {
 	const storageKey = `${opts.keyPrefix}/${randomUUID()}/${sanitiseFileName(originalName)}`;
 	const hash = createHash('sha256');
-	const out = new PassThrough({ highWaterMark: 1024 * 1024 });
+	const out = new PassThrough({ highWaterMark: 256 * 1024 });
 	// Errors of the pass-through are ours (fail() destroys it) or reach us through the upload's promise.
 	out.on('error', () => {});
 	const abort = new AbortController();
