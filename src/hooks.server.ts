@@ -6,7 +6,7 @@ import { isDatabaseUnavailable } from '$lib/server/db';
 import { startMailLoop } from '$lib/server/mail';
 // Registers the job queue's health check.
 import '$lib/server/jobs/health';
-import { inspectBody, refusal } from '$lib/server/input-guard';
+import { MAX_NON_UPLOAD_BODY, inspectBody, oversized, refusal } from '$lib/server/input-guard';
 import { userFromApiToken } from '$lib/server/tokens-auth';
 
 startMailLoop();
@@ -30,6 +30,16 @@ const identify: Handle = async ({ event, resolve }) => {
 		if (!isDatabaseUnavailable(e)) throw e;
 		// The health endpoint still answers (anonymously) and names the failing check.
 		if (event.url.pathname !== '/api/v1/health') return unavailable(event.url.pathname);
+	}
+	if (oversized(event.request)) {
+		const message = `The request body is larger than ${MAX_NON_UPLOAD_BODY} bytes; nothing was changed.`;
+		return withHeaders(
+			new Response(JSON.stringify({ error: { status: 413, message } }), {
+				status: 413,
+				headers: { 'content-type': 'application/json' }
+			}),
+			event.locals.requestId
+		);
 	}
 	const problem = await inspectBody(event.request);
 	if (problem) {

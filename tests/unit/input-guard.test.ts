@@ -50,3 +50,19 @@ describe('input guard', () => {
 		expect(await page.text()).not.toContain('<b>');
 	});
 });
+
+describe('body size', () => {
+	it('refuses announced non-upload bodies over the limit, and leaves uploads to their route', async () => {
+		const { oversized, MAX_NON_UPLOAD_BODY } = await import('../../src/lib/server/input-guard');
+		const big = String(MAX_NON_UPLOAD_BODY + 1);
+		const req = (type: string, length: string) =>
+			new Request('http://x/a', {
+				method: 'POST',
+				headers: { 'content-type': type, 'content-length': length }
+			});
+		expect(oversized(req('application/json', big))).toBe(true);
+		expect(oversized(req('application/x-www-form-urlencoded', big))).toBe(true);
+		expect(oversized(req('multipart/form-data; boundary=x', big))).toBe(false);
+		expect(oversized(req('application/json', '100'))).toBe(false);
+	});
+});

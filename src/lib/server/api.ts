@@ -51,7 +51,7 @@ export function toApiResponse(e: unknown, event: RequestEvent): Response {
 	return apiError(500, 'Unexpected error; it has been logged.', { errorId });
 }
 
-/** Read a JSON body or fail with 400/415 naming the problem. */
+/** Read a JSON body or fail with 400/413/415 naming the problem; never holds more than maxBytes. */
 export async function readJson(event: RequestEvent, maxBytes = 2_000_000): Promise<unknown> {
 	const type = event.request.headers.get('content-type') ?? '';
 	if (!type.toLowerCase().startsWith('application/json')) {
@@ -59,10 +59,25 @@ export async function readJson(event: RequestEvent, maxBytes = 2_000_000): Promi
 			'content-type': 'Expected application/json.'
 		});
 	}
-	const text = await event.request.text();
-	if (text.length > maxBytes) {
-		throw new ServiceError(413, `The body is larger than ${maxBytes} bytes.`);
+	const tooLarge = () =>
+		new ServiceError(413, `The body is larger than ${maxBytes} bytes; nothing was changed.`);
+	if (Number(event.request.headers.get('content-length') ?? 0) > maxBytes) throw tooLarge();
+	const reader = event.request.body?.getReader();
+	const chunks: Uint8Array[] = [];
+	let size = 0;
+	if (reader) {
+		for (;;) {
+			const { done, value } = await reader.read();
+			if (done) break;
+			size += value.byteLength;
+			if (size > maxBytes) {
+				await reader.cancel();
+				throw tooLarge();
+			}
+			chunks.push(value);
+		}
 	}
+	const text = new TextDecoder().decode(Buffer.concat(chunks));
 	try {
 		return JSON.parse(text);
 	} catch (e) {

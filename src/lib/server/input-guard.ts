@@ -39,6 +39,20 @@ function checkValue(path: string, v: unknown, depth = 0): InputProblem | null {
 	return null;
 }
 
+/**
+ * Bodies other than file uploads are small: anything larger is refused before it is read (the server's
+ * own limit is lifted for the streamed evidence uploads, which enforce theirs while streaming).
+ */
+export const MAX_NON_UPLOAD_BODY = 4_000_000;
+
+/** True when a non-multipart body announces more than MAX_NON_UPLOAD_BODY bytes. */
+export function oversized(request: Request): boolean {
+	if (!['POST', 'PUT', 'PATCH', 'DELETE'].includes(request.method)) return false;
+	const type = (request.headers.get('content-type') ?? '').toLowerCase();
+	if (type.startsWith('multipart/form-data')) return false;
+	return Number(request.headers.get('content-length') ?? 0) > MAX_NON_UPLOAD_BODY;
+}
+
 /** Inspect a request body without consuming it. Returns the first problem, or null. */
 export async function inspectBody(request: Request): Promise<InputProblem | null> {
 	if (!['POST', 'PUT', 'PATCH', 'DELETE'].includes(request.method)) return null;
