@@ -282,6 +282,13 @@ describe('publishing a model version', () => {
 	});
 });
 
+describe('queue health', () => {
+	it('the health endpoint reports the job queue', async () => {
+		const res = await analyst.get('/api/v1/health', { accept: 'application/json' });
+		expect((await res.json()).checks.queue).toBe('ok');
+	});
+});
+
 describe('verdict-change mail', () => {
 	it('a failing transition mails each person concerned exactly once per publish', async () => {
 		// People of their own, so mail caused by the other tests cannot blur the counts.
