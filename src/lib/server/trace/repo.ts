@@ -1,4 +1,5 @@
 import { ENGINE_VERSION } from '../../stability/index';
+import type { Knex } from 'knex';
 import type { Db } from '../db';
 import type { MatrixQuery } from './schema';
 
@@ -78,20 +79,21 @@ function escapeLike(s: string): string {
 	return `%${s.replace(/[\\%_]/g, (c) => '\\' + c)}%`;
 }
 
+// Slim rows first (ids, short columns, counts): filtered, sorted and paged; the wide columns
+// (statement, rationale, specification and run results) are joined only for the rows returned.
 const MATRIX_SQL = `
-with cur as (
+with cur as materialized (
 	select r.id, r.number, r.identifier, r.current_revision as revision, r.current_spec_id, r.updated_at,
-		rr.content_hash, rr.title, rr.statement, rr.rationale, rr.level, rr.assurance_level, rr.methods, rr.status,
-		rr.owner_id, u.display_name as owner_name, rr.created_at as revised_at
+		rr.title, rr.level, rr.assurance_level, rr.methods, rr.status, rr.owner_id, u.display_name as owner_name,
+		rr.created_at as revised_at, (rr.statement ~ '\\mTB[DR]\\M') as has_tbx
 	from requirements r
 	join requirement_revisions rr on rr.requirement_id = r.id and rr.revision = r.current_revision
 	left join users u on u.id = rr.owner_id
-	where r.project_id = :projectId
+	where r.project_id = :projectId /*CUR_FILTERS*/
 ),
 inforce as (
-	select c.id, s.id as spec_id, s.version as spec_version, s.content_hash as spec_hash, s."check", s.required_margin,
-		m.id as model_id, m.name as model_name, mv.id as model_version_id, mv.version as model_version,
-		mv.content_hash as model_hash, ar.id as run_id, ar.status as run_status, ar.verdict as run_verdict
+	select c.id, s.id as spec_id, m.id as model_id, mv.id as model_version_id, ar.id as run_id,
+		ar.status as run_status, ar.verdict as run_verdict
 	from cur c
 	join stability_specs s on s.id = c.current_spec_id
 	join models m on m.id = s.model_id
@@ -101,13 +103,9 @@ inforce as (
 		and ar.spec_id = s.id and ar.model_version_id = mv.id and ar.engine_version = :engine
 ),
 latest as (
-	select distinct on (ar.requirement_id) ar.requirement_id, ar.id, ar.status, ar.verdict, ar.result, ar.worst_point,
-		ar.finished_at, ar.output_hash, ar.engine_version, ar.model_version_id, mv.version as model_version,
-		ar.model_hash, ar.spec_id, s.version as spec_version, s."check" as spec_check, ar.requirement_revision
+	select distinct on (ar.requirement_id) ar.requirement_id, ar.id, ar.finished_at
 	from analysis_runs ar
-	join model_versions mv on mv.id = ar.model_version_id
-	join stability_specs s on s.id = ar.spec_id
-	where ar.project_id = :projectId and ar.status in ('done', 'error')
+	where ar.project_id = :projectId and ar.status in ('done', 'error') and ar.requirement_id in (select id from cur)
 	order by ar.requirement_id, ar.finished_at desc nulls last, ar.id desc
 ),
 pend as (
@@ -127,48 +125,6 @@ ev as (
 	where e.project_id = :projectId
 	group by el.requirement_id
 ),
-par as (
-	select l.child_id as id, array_agg(p.identifier order by p.number) as ids
-	from requirement_links l join requirements p on p.id = l.parent_id
-	where l.removed_at is null and p.project_id = :projectId group by l.child_id
-),
-chi as (
-	select l.parent_id as id, array_agg(ch.identifier order by ch.number) as ids
-	from requirement_links l join requirements ch on ch.id = l.child_id
-	where l.removed_at is null and ch.project_id = :projectId group by l.parent_id
-),
-joined as (
-	select c.*, par.ids as parents, chi.ids as children,
-		i.spec_id, i.spec_version, i.spec_hash, i."check", i.required_margin, i.model_id, i.model_name,
-		i.model_version_id, i.model_version, i.model_hash, i.run_id as current_run_id,
-		case
-			when i.spec_id is null or i.model_version_id is null then 'not-analysed'
-			when i.run_id is null or i.run_status in ('queued', 'running') then 'pending'
-			when i.run_status = 'error' then 'error'
-			when i.run_verdict = 'pass' then 'verified'
-			when i.run_verdict = 'fail' then 'failing'
-			when i.run_verdict = 'inconclusive' then 'inconclusive'
-			else 'error'
-		end as analysis_state,
-		lt.id as latest_run_id, lt.status as latest_status, lt.verdict as latest_verdict, lt.result as latest_result,
-		lt.worst_point as latest_worst_point, lt.finished_at as latest_finished_at, lt.output_hash as latest_output_hash,
-		lt.engine_version as latest_engine_version, lt.model_version_id as latest_model_version_id,
-		lt.model_version as latest_model_version, lt.model_hash as latest_model_hash, lt.spec_id as latest_spec_id,
-		lt.spec_version as latest_spec_version, lt.spec_check as latest_spec_check,
-		lt.requirement_revision as latest_requirement_revision,
-		coalesce(pend.n, 0) as pending_runs,
-		coalesce(ev.n, 0) as evidence_count, coalesce(ev.accepted, 0) as evidence_accepted,
-		coalesce(ev.rejected, 0) as evidence_rejected, coalesce(ev.unreviewed, 0) as evidence_unreviewed,
-		(c.statement ~ '\\mTB[DR]\\M') as has_tbx,
-		greatest(c.updated_at, c.revised_at, lt.finished_at, ev.last_at) as last_change
-	from cur c
-	left join inforce i on i.id = c.id
-	left join latest lt on lt.requirement_id = c.id
-	left join pend on pend.requirement_id = c.id
-	left join ev on ev.requirement_id = c.id
-	left join par on par.id = c.id
-	left join chi on chi.id = c.id
-),
 stated as (
 	select j.*,
 		case
@@ -179,9 +135,61 @@ stated as (
 			when analysis_state in ('pending', 'inconclusive', 'error') or evidence_unreviewed > 0 then 'pending'
 			else 'not-covered'
 		end as combined_state
-	from joined j
+	from (
+		select c.*, i.spec_id, i.model_id, i.model_version_id, i.run_id as current_run_id,
+			case
+				when i.spec_id is null or i.model_version_id is null then 'not-analysed'
+				when i.run_id is null or i.run_status in ('queued', 'running') then 'pending'
+				when i.run_status = 'error' then 'error'
+				when i.run_verdict = 'pass' then 'verified'
+				when i.run_verdict = 'fail' then 'failing'
+				when i.run_verdict = 'inconclusive' then 'inconclusive'
+				else 'error'
+			end as analysis_state,
+			lt.id as latest_run_id,
+			coalesce(pend.n, 0) as pending_runs,
+			coalesce(ev.n, 0) as evidence_count, coalesce(ev.accepted, 0) as evidence_accepted,
+			coalesce(ev.rejected, 0) as evidence_rejected, coalesce(ev.unreviewed, 0) as evidence_unreviewed,
+			greatest(c.updated_at, c.revised_at, lt.finished_at, ev.last_at) as last_change
+		from cur c
+		left join inforce i on i.id = c.id
+		left join latest lt on lt.requirement_id = c.id
+		left join pend on pend.requirement_id = c.id
+		left join ev on ev.requirement_id = c.id
+	) j
+),
+page as (
+	select *, count(*) over ()::int as total from stated /*WHERE*/ /*ORDER*/ /*LIMIT*/
+),
+par as (
+	select l.child_id as id, array_agg(x.identifier order by x.number) as ids
+	from requirement_links l join requirements x on x.id = l.parent_id
+	where l.removed_at is null and l.child_id in (select id from page) group by l.child_id
+),
+chi as (
+	select l.parent_id as id, array_agg(x.identifier order by x.number) as ids
+	from requirement_links l join requirements x on x.id = l.child_id
+	where l.removed_at is null and l.parent_id in (select id from page) group by l.parent_id
 )
-select *, count(*) over ()::int as total from stated
+select p.*, rr.statement, rr.rationale, rr.content_hash, par.ids as parents, chi.ids as children,
+	s.version as spec_version, s.content_hash as spec_hash, s."check", s.required_margin,
+	m.name as model_name, mv.version as model_version, mv.content_hash as model_hash,
+	lt.status as latest_status, lt.verdict as latest_verdict, lt.result as latest_result, lt.worst_point as latest_worst_point,
+	lt.finished_at as latest_finished_at, lt.output_hash as latest_output_hash, lt.engine_version as latest_engine_version,
+	lt.model_version_id as latest_model_version_id, lmv.version as latest_model_version, lt.model_hash as latest_model_hash,
+	lt.spec_id as latest_spec_id, ls.version as latest_spec_version, ls."check" as latest_spec_check,
+	lt.requirement_revision as latest_requirement_revision
+from page p
+join requirement_revisions rr on rr.requirement_id = p.id and rr.revision = p.revision
+left join stability_specs s on s.id = p.spec_id
+left join models m on m.id = p.model_id
+left join model_versions mv on mv.id = p.model_version_id
+left join analysis_runs lt on lt.id = p.latest_run_id
+left join model_versions lmv on lmv.id = lt.model_version_id
+left join stability_specs ls on ls.id = lt.spec_id
+left join par on par.id = p.id
+left join chi on chi.id = p.id
+/*ORDER*/
 `;
 
 /** One page (or, with limit null, all) of the matrix, filtered and sorted in the database. */
@@ -193,45 +201,55 @@ export async function matrix(
 	offset = 0
 ): Promise<MatrixDbRow[]> {
 	const where: string[] = [];
+	const curWhere: string[] = [];
 	const b: Record<string, unknown> = { projectId, engine: ENGINE_VERSION };
 	if (q.state?.length) {
 		where.push('combined_state = any(:states::text[])');
 		b.states = q.state;
 	}
 	if (q.level) {
-		where.push('level = :level');
+		curWhere.push('rr.level = :level');
 		b.level = q.level;
 	}
 	if (q.assurance) {
-		where.push('assurance_level = :assurance');
+		curWhere.push('rr.assurance_level = :assurance');
 		b.assurance = q.assurance;
 	}
 	if (q.method) {
-		where.push(':method = any(methods)');
+		curWhere.push(':method = any(rr.methods)');
 		b.method = q.method;
 	}
 	if (q.owner) {
-		where.push('owner_id = :owner');
+		curWhere.push('rr.owner_id = :owner');
 		b.owner = q.owner;
 	}
 	if (q.q) {
-		where.push('(identifier ilike :like or title ilike :like or statement ilike :like)');
+		curWhere.push('(r.identifier ilike :like or rr.title ilike :like or rr.statement ilike :like)');
 		b.like = escapeLike(q.q);
 	}
 	const sort = SORTS[q.sort] ?? 'number';
 	const dir = q.dir === 'desc' ? 'desc' : 'asc';
-	let sql = MATRIX_SQL.replace(
-		'select *, count(*) over ()::int as total from stated',
-		`select *, count(*) over ()::int as total from stated${where.length ? ' where ' + where.join(' and ') : ''}
-		order by ${sort} ${dir} nulls last, number ${dir}`
-	);
+	const order = `order by ${sort} ${dir} nulls last, number ${dir}`;
+	const sql = MATRIX_SQL.replace('/*CUR_FILTERS*/', curWhere.map((w) => 'and ' + w).join(' '))
+		.replace('/*WHERE*/', where.length ? 'where ' + where.join(' and ') : '')
+		.replace('/*ORDER*/', order)
+		.replace(
+			'/*ORDER*/',
+			order.replace(/\b(number|title|level|assurance_level|combined_state|owner_name|last_change)\b/g, 'p.$1')
+		)
+		.replace('/*LIMIT*/', limit !== null ? 'limit :limit offset :offset' : '');
 	if (limit !== null) {
-		sql += ' limit :limit offset :offset';
 		b.limit = limit;
 		b.offset = offset;
 	}
-	const r = await db.raw(sql, b as never);
-	return r.rows as MatrixDbRow[];
+	// The planner over-estimates the joined rows by orders of magnitude (grouped sub-queries joined by
+	// requirement), which switches on JIT compilation: seconds of compiling for a query that runs in
+	// tens of milliseconds. Off for this query, with room for its sorts in memory.
+	const run = async (trx: Db) => {
+		await trx.raw("set local jit = off; set local work_mem = '32MB'");
+		return (await trx.raw(sql, b as never)).rows as MatrixDbRow[];
+	};
+	return (db as { isTransaction?: boolean }).isTransaction ? run(db) : (db as Knex).transaction(run);
 }
 
 /** The owners who appear in a project's requirements (for the owner filter). */
