@@ -314,7 +314,11 @@ export async function traceSection(): Promise<BenchResult> {
 				await page.waitForSelector('[data-testid=matrix-row]', { timeout: 30_000 });
 				const first = performance.now() - t;
 				await page.waitForFunction(
-					() => document.querySelector('[data-testid=matrix-status]')?.textContent?.includes('Showing'),
+					() =>
+						(document.querySelector('[data-testid=matrix-status]')?.textContent ?? '').includes('Showing') &&
+						!(document.querySelector('[data-testid=matrix-status]')?.textContent ?? '').includes(
+							'Loading the rest'
+						),
 					null,
 					{
 						timeout: 60_000
