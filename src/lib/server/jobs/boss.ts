@@ -109,3 +109,31 @@ export async function sendRunJobs(trx: Db, runIds: number[]): Promise<void> {
 	}
 	await trx.raw('select pg_notify(?, ?)', [RUNS_CHANNEL, String(runIds.length)]);
 }
+
+// pg-boss 10 completes and fails several jobs at once (its typings only declare some of the forms).
+type Many = (
+	name: string,
+	ids: string[],
+	data: object,
+	options?: PgBoss.ConnectionOptions
+) => Promise<unknown>;
+
+/** Complete run jobs; with `trx`, inside that transaction. */
+export async function completeRunJobs(ids: string[], trx?: Db): Promise<void> {
+	if (ids.length === 0) return;
+	const boss = await getBoss();
+	await (boss.complete as unknown as Many).call(
+		boss,
+		RUN_QUEUE,
+		ids,
+		{},
+		trx ? { db: knexExecutor(trx) } : {}
+	);
+}
+
+/** Fail run jobs (they are retried after the retry delay). */
+export async function failRunJobs(ids: string[], message: string): Promise<void> {
+	if (ids.length === 0) return;
+	const boss = await getBoss();
+	await (boss.fail as unknown as Many).call(boss, RUN_QUEUE, ids, { message });
+}

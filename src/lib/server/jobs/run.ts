@@ -1,119 +1,169 @@
+import type { Knex } from 'knex';
 import { ModelInputError } from '../../stability/index';
 import { computeRun } from '../analyses/compute';
-import type { Knex } from 'knex';
 import { db } from '../db';
 import { kickMail } from '../mail';
 import { afterRunFinished } from './notices';
-import { RUN_QUEUE, getBoss, knexExecutor, runJobPolicy } from './boss';
+import { completeRunJobs, runJobPolicy } from './boss';
 
-// Execute one analysis run. Safe to call twice for the same run (a retried job): a finished run is
-// left alone, and only the first finisher writes the outcome.
+// Execute analysis runs. Safe to call twice for the same run (a retried job): a finished run is left
+// alone, and only the first finisher writes the outcome.
 
 export type RunOutcome = 'done' | 'error' | 'skipped';
 
 function holdMs(): number {
-	// Fault-injection aid for the crash test (tests/integration/reverify.test.ts): wait this long after
-	// claiming a run, so the test can kill the worker mid-run. Unset in production.
+	// Fault-injection aid for the crash test (tests/integration/models/reverify.test.ts): wait this long
+	// after claiming runs, so the test can kill the worker mid-run. Unset in production.
 	const n = Number(process.env.LW_WORKER_HOLD_MS);
 	return Number.isFinite(n) && n > 0 ? n : 0;
 }
 
 /**
  * The worker's transactions commit asynchronously (synchronous_commit off): a result is re-derivable,
- * and the job's completion commits in the same transaction as the result, so after a crash of the
+ * and a job's completion commits in the same transaction as its result, so after a crash of the
  * database server either both are there or the job is still open and the run is done again.
  */
 async function relaxed(trx: Knex.Transaction) {
 	await trx.raw('set local synchronous_commit = off');
 }
 
+export interface RunJob {
+	runId: number;
+	/** The pg-boss job: completed in the transaction that stores the run's result. */
+	jobId?: string;
+}
+
+interface Claimed {
+	id: number;
+	trigger_ref: string | null;
+	check: unknown;
+	required_margin: number | null;
+	operating_points: string[] | null;
+	content: { operatingPoints: { label: string; model: never }[] };
+}
+
 /**
- * Run one analysis. With `jobId`, the pg-boss job is completed in the transaction that stores the
- * result (then the caller must not complete it again).
+ * Run a batch: one transaction claims them all (attempts + 1), then each is computed and stored in its
+ * own transaction. Runs already finished only have their jobs completed.
  */
+export async function processRuns(
+	batch: RunJob[],
+	workerLabel = `pid ${process.pid}`
+): Promise<Map<number, RunOutcome>> {
+	const out = new Map<number, RunOutcome>();
+	if (batch.length === 0) return out;
+	const maxAttempts = runJobPolicy().retryLimit + 1;
+	const jobOf = new Map(batch.map((j) => [Number(j.runId), j.jobId]));
+	const complete = async (trx: Knex.Transaction, runIds: number[]) => {
+		const ids = runIds.map((id) => jobOf.get(id)).filter((x): x is string => !!x);
+		await completeRunJobs(ids, trx);
+	};
+	const ids = [...jobOf.keys()];
+
+	const claim = await db().transaction(async (trx) => {
+		await relaxed(trx);
+		const rows: { id: number; status: string; attempts: number }[] = await trx('analysis_runs')
+			.whereIn('id', ids)
+			.forUpdate()
+			.orderBy('id')
+			.select('id', 'status', 'attempts');
+		const present = new Set(rows.map((r) => Number(r.id)));
+		const settled = [
+			...ids.filter((id) => !present.has(id)),
+			...rows.filter((r) => r.status === 'done' || r.status === 'error').map((r) => Number(r.id))
+		];
+		const open = rows.filter((r) => r.status === 'queued' || r.status === 'running');
+		const exhausted = open.filter((r) => r.attempts >= maxAttempts).map((r) => Number(r.id));
+		const toClaim = open.filter((r) => r.attempts < maxAttempts).map((r) => Number(r.id));
+		let mails = 0;
+		if (exhausted.length) {
+			// Every attempt so far ended without a result (the worker stopped): record it, never lose it.
+			const done = await trx('analysis_runs')
+				.whereIn('id', exhausted)
+				.update({
+					status: 'error',
+					error: trx.raw(
+						`'No result after ' || attempts || ' attempts: the worker stopped during each one.'`
+					),
+					finished_at: trx.fn.now()
+				})
+				.returning(['id', 'trigger_ref']);
+			for (const d of done) mails += await afterRunFinished(trx, d);
+		}
+		await complete(trx, [...settled, ...exhausted]);
+		for (const id of settled) out.set(id, 'skipped');
+		for (const id of exhausted) out.set(id, 'error');
+		if (toClaim.length === 0) return { claimed: [] as Claimed[], mails };
+		await trx('analysis_runs')
+			.whereIn('id', toClaim)
+			.update({ status: 'running', attempts: trx.raw('attempts + 1'), started_at: trx.fn.now() });
+		const claimed: Claimed[] = (
+			await trx.raw(
+				`select ar.id, ar.trigger_ref, s."check", s.required_margin, s.operating_points, mv.content
+				from analysis_runs ar
+				join stability_specs s on s.id = ar.spec_id
+				join model_versions mv on mv.id = ar.model_version_id
+				where ar.id = any(?::bigint[]) order by ar.id`,
+				[toClaim]
+			)
+		).rows;
+		return { claimed, mails };
+	});
+	if (claim.mails) kickMail();
+	if (claim.claimed.length && holdMs()) await new Promise((r) => setTimeout(r, holdMs()));
+
+	for (const run of claim.claimed) {
+		const runId = Number(run.id);
+		const t0 = performance.now();
+		let update: Record<string, unknown>;
+		try {
+			const r = computeRun({
+				check: run.check,
+				requiredMargin: run.required_margin ?? null,
+				operatingPoints: run.operating_points ?? null,
+				content: run.content
+			});
+			update = {
+				status: 'done',
+				verdict: r.verdict,
+				result: JSON.stringify(r.result),
+				worst_point: r.worstPoint,
+				curves: JSON.stringify(r.curves),
+				output_hash: r.outputHash,
+				error: null
+			};
+		} catch (e) {
+			const message =
+				e instanceof ModelInputError
+					? `The engine refused the input: ${e.message}`
+					: `The engine failed: ${(e as Error)?.message ?? String(e)}`;
+			console.error(`[worker ${workerLabel}] run ${runId}: ${message}`);
+			update = { status: 'error', verdict: null, error: message.slice(0, 2000) };
+		}
+		const duration = Math.round(performance.now() - t0);
+		const mails = await db().transaction(async (trx) => {
+			await relaxed(trx);
+			await complete(trx, [runId]);
+			const [finished] = await trx('analysis_runs')
+				.where({ id: runId, status: 'running' })
+				.update({ ...update, finished_at: trx.fn.now(), duration_ms: duration })
+				.returning(['id', 'trigger_ref']);
+			// Another attempt finished first: keep its result.
+			if (!finished) return 0;
+			return afterRunFinished(trx, finished);
+		});
+		if (mails) kickMail();
+		out.set(runId, update.status as RunOutcome);
+	}
+	return out;
+}
+
+/** Run one analysis (scripts such as the demo seed call this directly). */
 export async function processRun(
 	runId: number,
 	workerLabel = `pid ${process.pid}`,
 	opts: { jobId?: string } = {}
 ): Promise<RunOutcome> {
-	const maxAttempts = runJobPolicy().retryLimit + 1;
-	const boss = opts.jobId ? await getBoss() : null;
-	const completeJob = async (trx: Knex.Transaction) => {
-		if (boss && opts.jobId) await boss.complete(RUN_QUEUE, opts.jobId, {}, { db: knexExecutor(trx) });
-	};
-	const claim = await db().transaction(async (trx) => {
-		await relaxed(trx);
-		const run = await trx('analysis_runs').where({ id: runId }).forUpdate().first();
-		if (!run || run.status === 'done' || run.status === 'error') {
-			await completeJob(trx);
-			return { run: null, mails: 0 };
-		}
-		if (run.attempts >= maxAttempts) {
-			// Every attempt so far ended without a result (the worker stopped): record it, never lose it.
-			const [done] = await trx('analysis_runs')
-				.where({ id: runId })
-				.update({
-					status: 'error',
-					error: `No result after ${run.attempts} attempts: the worker stopped during each one.`,
-					finished_at: trx.fn.now()
-				})
-				.returning(['id', 'trigger_ref']);
-			await completeJob(trx);
-			return { run: null, mails: await afterRunFinished(trx, done) };
-		}
-		const [claimed] = await trx('analysis_runs')
-			.where({ id: runId })
-			.update({ status: 'running', attempts: run.attempts + 1, started_at: trx.fn.now() })
-			.returning('*');
-		return { run: claimed, mails: 0 };
-	});
-	if (claim.mails) kickMail();
-	const run = claim.run;
-	if (!run) return 'skipped';
-	if (holdMs()) await new Promise((r) => setTimeout(r, holdMs()));
-
-	const [spec, version] = await Promise.all([
-		db()('stability_specs').where({ id: run.spec_id }).first(),
-		db()('model_versions').where({ id: run.model_version_id }).first()
-	]);
-	const t0 = performance.now();
-	let update: Record<string, unknown>;
-	try {
-		const out = computeRun({
-			check: spec.check,
-			requiredMargin: spec.required_margin ?? null,
-			operatingPoints: spec.operating_points ?? null,
-			content: version.content
-		});
-		update = {
-			status: 'done',
-			verdict: out.verdict,
-			result: JSON.stringify(out.result),
-			worst_point: out.worstPoint,
-			curves: JSON.stringify(out.curves),
-			output_hash: out.outputHash,
-			error: null
-		};
-	} catch (e) {
-		const message =
-			e instanceof ModelInputError
-				? `The engine refused the input: ${e.message}`
-				: `The engine failed: ${(e as Error)?.message ?? String(e)}`;
-		console.error(`[worker ${workerLabel}] run ${runId}: ${message}`);
-		update = { status: 'error', verdict: null, error: message.slice(0, 2000) };
-	}
-	const duration = Math.round(performance.now() - t0);
-	const mails = await db().transaction(async (trx) => {
-		await relaxed(trx);
-		await completeJob(trx);
-		const [finished] = await trx('analysis_runs')
-			.where({ id: runId, status: 'running' })
-			.update({ ...update, finished_at: trx.fn.now(), duration_ms: duration })
-			.returning(['id', 'trigger_ref']);
-		// Another attempt finished first: keep its result.
-		if (!finished) return 0;
-		return afterRunFinished(trx, finished);
-	});
-	if (mails) kickMail();
-	return update.status as RunOutcome;
+	const r = await processRuns([{ runId, jobId: opts.jobId }], workerLabel);
+	return r.get(Number(runId)) ?? 'skipped';
 }

@@ -1,9 +1,9 @@
 import pg from 'pg';
 import { config } from '../config';
 import { startMailLoop } from '../mail';
-import { RUN_QUEUE, RUNS_CHANNEL, getBoss, stopBoss } from './boss';
+import { RUN_QUEUE, RUNS_CHANNEL, completeRunJobs, failRunJobs, getBoss, stopBoss } from './boss';
 import { queueForEngineVersion } from './engine-version';
-import { processRun } from './run';
+import { processRuns } from './run';
 
 // The analysis worker: fetches run jobs from pg-boss and executes them one at a time. Several workers
 // (processes, machines) may run side by side; pg-boss hands each job to one of them. A worker that dies
@@ -75,17 +75,22 @@ export async function startWorker(
 				await sleep(idleMs);
 				continue;
 			}
-			for (const job of jobs) {
-				const runId = Number(job.data?.runId);
-				try {
-					// The job is completed in the transaction that stores the result.
-					if (Number.isInteger(runId)) await processRun(runId, label, { jobId: job.id });
-					else await boss.complete(RUN_QUEUE, job.id);
-				} catch (e) {
-					// The database went away or similar: the job is retried (the run is idempotent).
-					console.error(`[worker ${label}] run ${runId} interrupted: ${(e as Error).message}`);
-					await boss.fail(RUN_QUEUE, job.id, { message: (e as Error).message }).catch(() => {});
-				}
+			const batch = jobs.map((j) => ({ runId: Number(j.data?.runId), jobId: j.id }));
+			const bad = batch.filter((b) => !Number.isInteger(b.runId));
+			try {
+				await completeRunJobs(bad.map((b) => b.jobId));
+				// Each job is completed in the transaction that stores its run's result.
+				await processRuns(
+					batch.filter((b) => Number.isInteger(b.runId)),
+					label
+				);
+			} catch (e) {
+				// The database went away or similar: unfinished jobs are retried (runs are idempotent).
+				console.error(`[worker ${label}] batch interrupted: ${(e as Error).message}`);
+				await failRunJobs(
+					batch.map((b) => b.jobId),
+					(e as Error).message
+				).catch(() => {});
 			}
 		}
 	};
