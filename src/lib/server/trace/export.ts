@@ -152,7 +152,7 @@ export const SHEET_NAMES = [
 	'Open items'
 ] as const;
 
-function table<T>(
+async function table<T>(
 	wb: ExcelJS.stream.xlsx.WorkbookWriter,
 	name: string,
 	columns: SheetColumn<T>[],
@@ -164,7 +164,13 @@ function table<T>(
 	ws.autoFilter = { from: { row: 1, column: 1 }, to: { row: 1, column: columns.length } };
 	// The header row is written by the columns setter; commit it, then every data row as it is added.
 	ws.getRow(1).commit();
-	for (const r of rows) ws.addRow(columns.map((c) => c.value(r))).commit();
+	let n = 0;
+	for (const r of rows) {
+		ws.addRow(columns.map((c) => c.value(r))).commit();
+		// addRow is synchronous: let the zip stream compress and drain what was written, so memory holds
+		// a few hundred rows of XML rather than a whole sheet.
+		if (++n % 250 === 0) await new Promise((resolve) => setImmediate(resolve));
+	}
 	ws.commit();
 }
 
@@ -218,16 +224,16 @@ export async function writeWorkbook(snap: Snapshot, cover: Cover, out: Writable)
 	}
 	ws.commit();
 
-	table(wb, 'Trace matrix', MATRIX_COLUMNS, snap.requirements);
-	table(wb, 'Requirements', REQUIREMENT_COLUMNS, snap.requirements);
-	table(
+	await table(wb, 'Trace matrix', MATRIX_COLUMNS, snap.requirements);
+	await table(wb, 'Requirements', REQUIREMENT_COLUMNS, snap.requirements);
+	await table(
 		wb,
 		'Analyses',
 		ANALYSIS_COLUMNS,
 		snap.requirements.filter((r): r is AnalysisLine => r.latestRun !== null)
 	);
-	table(wb, 'Evidence', EVIDENCE_COLUMNS, snap.evidence);
-	table(wb, 'Open items', OPEN_COLUMNS, openLines(snap.requirements));
+	await table(wb, 'Evidence', EVIDENCE_COLUMNS, snap.evidence);
+	await table(wb, 'Open items', OPEN_COLUMNS, openLines(snap.requirements));
 	await wb.commit();
 }
 
