@@ -8,7 +8,7 @@ import {
 	createUser,
 	testDb
 } from '../../factories';
-import { signedIn, type Client } from '../../helpers/http';
+import { decodeDevalue, signedIn, type Client } from '../../helpers/http';
 import { allMail, expectMailTo, mailTo } from '../../helpers/mail';
 import { enqueueForModelVersion } from '../../../src/lib/server/analyses/queue';
 import { analysisStates } from '../../../src/lib/server/analyses/state';
@@ -255,6 +255,38 @@ describe('publishing a model version', () => {
 		expect(String((form.data?.errors as Record<string, string>).operatingPoints)).toMatch(/not valid JSON/);
 
 		expect(await snapshot()).toEqual(before);
+	});
+
+	it('publishes from an uploaded loopwarden-model/1 file through the form, and refuses a file in another format', async () => {
+		const modelId = await newModel('uploaded loop');
+		const post = async (file: unknown) => {
+			const form = new FormData();
+			form.set('note', '');
+			form.set('operatingPoints', '');
+			form.set('file', new Blob([JSON.stringify(file)], { type: 'application/json' }), 'model.json');
+			const res = await analyst.request(`/p/${team.project.key}/models/${modelId}/publish?/publish`, {
+				method: 'POST',
+				headers: { accept: 'application/json', 'x-sveltekit-action': 'true' },
+				body: form
+			});
+			return res.json();
+		};
+		const ok = await post({
+			format: 'loopwarden-model/1',
+			note: 'from the rig fit',
+			operatingPoints: points(CUBE, 'rig fit')
+		});
+		expect(ok.type).toBe('redirect');
+		expect(ok.location).toBe(`/p/${team.project.key}/models/${modelId}/v/1`);
+		const v = await testDb()('model_versions').where({ model_id: modelId, version: 1 }).first();
+		expect(v.note).toBe('from the rig fit');
+		expect(v.content.operatingPoints[0]).toEqual({ label: 'rig fit', model: CUBE });
+		const wrong = await post({ format: 'other/2', operatingPoints: points(LAG) });
+		expect(wrong.type).toBe('failure');
+		expect(wrong.status).toBe(400);
+		const errors = decodeDevalue(wrong.data).errors as Record<string, string>;
+		expect(errors.file).toMatch(/format must be "loopwarden-model\/1"/);
+		expect((await testDb()('model_versions').where({ model_id: modelId })).length).toBe(1);
 	});
 
 	it('an engine refusal is recorded as an error run, never lost', async () => {
