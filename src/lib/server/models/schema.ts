@@ -25,6 +25,7 @@ export const createModelInput = z.object({
 		.number({ error: 'Choose an owner.' })
 		.int('Choose an owner.')
 		.positive('Choose an owner.')
+		.max(Number.MAX_SAFE_INTEGER, 'Choose an owner.')
 		.optional()
 });
 export type CreateModelInput = z.infer<typeof createModelInput>;

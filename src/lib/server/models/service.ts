@@ -66,34 +66,46 @@ export async function createModel(actor: Actor, projectId: number, raw: unknown)
 	}
 	const input: CreateModelInput = parsed.data;
 	const ownerId = input.ownerId ?? actor.userId ?? null;
-	return db().transaction(async (trx) => {
-		if (ownerId !== null) {
-			const owners = await possibleOwners(trx, projectId);
-			const admin = await trx('users').where({ id: ownerId, site_admin: true, disabled: false }).first('id');
-			if (!owners.some((o) => Number(o.id) === Number(ownerId)) && !admin)
-				throw new ServiceError(400, 'The owner must be an analyst of this project.', {
-					ownerId: 'Choose an analyst of this project.'
-				});
-		}
-		if (await models.byName(trx, projectId, input.name))
-			throw new ServiceError(409, `A model named "${input.name}" exists already.`, {
-				name: 'This name is taken in this project.'
+	const taken = () =>
+		new ServiceError(409, `A model named "${input.name}" exists already.`, {
+			name: 'This name is taken in this project.'
+		});
+	try {
+		return await insertModel();
+	} catch (e) {
+		// Two creations of the same name at once: the unique key decides, the loser hears why.
+		if ((e as { code?: string }).code === '23505') throw taken();
+		throw e;
+	}
+	function insertModel() {
+		return db().transaction(async (trx) => {
+			if (ownerId !== null) {
+				const owners = await possibleOwners(trx, projectId);
+				const admin = await trx('users')
+					.where({ id: ownerId, site_admin: true, disabled: false })
+					.first('id');
+				if (!owners.some((o) => Number(o.id) === Number(ownerId)) && !admin)
+					throw new ServiceError(400, 'The owner must be an analyst of this project.', {
+						ownerId: 'Choose an analyst of this project.'
+					});
+			}
+			if (await models.byName(trx, projectId, input.name)) throw taken();
+			const m = await models.insert(trx, {
+				project_id: projectId,
+				name: input.name,
+				description: input.description,
+				owner_id: ownerId
 			});
-		const m = await models.insert(trx, {
-			project_id: projectId,
-			name: input.name,
-			description: input.description,
-			owner_id: ownerId
+			await recordEvent(trx, actor, {
+				projectId,
+				action: 'model.create',
+				subjectType: 'model',
+				subjectId: m.id,
+				after: { name: m.name, description: m.description, ownerId }
+			});
+			return m;
 		});
-		await recordEvent(trx, actor, {
-			projectId,
-			action: 'model.create',
-			subjectType: 'model',
-			subjectId: m.id,
-			after: { name: m.name, description: m.description, ownerId }
-		});
-		return m;
-	});
+	}
 }
 
 export interface PublishResult {
