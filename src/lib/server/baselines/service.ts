@@ -72,47 +72,60 @@ export async function freeze(actor: Actor, projectId: number, raw: unknown): Pro
 		for (const i of parsed.error.issues) fields[String(i.path[0] ?? '_')] ??= i.message;
 		throw new ServiceError(400, Object.values(fields)[0] ?? 'Invalid input', fields);
 	}
-	return db().transaction(
-		async (trx) => {
-			const number = await baselines.nextNumber(trx, projectId);
-			const manifest = normalise(await snapshot(projectId, undefined, trx));
-			const blockers = blockersOf(manifest);
-			if (blockers.length) {
+	return db()
+		.transaction(
+			async (trx) => {
+				const number = await baselines.nextNumber(trx, projectId);
+				const manifest = normalise(await snapshot(projectId, undefined, trx));
+				const blockers = blockersOf(manifest);
+				if (blockers.length) {
+					throw new ServiceError(
+						409,
+						`${blockers.length} requirement${blockers.length === 1 ? '' : 's'} block${blockers.length === 1 ? 's' : ''} a baseline: ${blockers
+							.slice(0, 5)
+							.map((b) => `${b.identifier} (${b.reasons.join('; ')})`)
+							.join(', ')}${blockers.length > 5 ? ' …' : ''}.`,
+						{},
+						{ blockers }
+					);
+				}
+				const hash = manifestHash(manifest);
+				const row = await baselines.insert(trx, {
+					project_id: projectId,
+					number,
+					label: parsed.data.label,
+					note: parsed.data.note,
+					manifest: canonical(manifest),
+					manifest_hash: hash,
+					engine_version: ENGINE_VERSION,
+					requirement_count: manifest.requirements.length,
+					created_by: actor.userId ?? null,
+					created_by_label: actor.label
+				});
+				await recordEvent(trx, actor, {
+					projectId,
+					action: 'baseline.freeze',
+					subjectType: 'baseline',
+					subjectId: row.id,
+					after: { number, label: row.label, manifestHash: hash, requirements: row.requirement_count }
+				});
+				return row;
+			},
+			// The manifest is one consistent picture: nothing committed after the snapshot begins shows in it.
+			{ isolationLevel: 'repeatable read' }
+		)
+		.catch((e) => {
+			// Two freezes at the same moment: the snapshot of the later one predates the earlier one's number
+			// (repeatable read), so the unique number refuses it. Nothing was stored; the user may try again.
+			const code = (e as { code?: string }).code;
+			if (code === '23505' || code === '40001') {
 				throw new ServiceError(
 					409,
-					`${blockers.length} requirement${blockers.length === 1 ? '' : 's'} block${blockers.length === 1 ? 's' : ''} a baseline: ${blockers
-						.slice(0, 5)
-						.map((b) => `${b.identifier} (${b.reasons.join('; ')})`)
-						.join(', ')}${blockers.length > 5 ? ' …' : ''}.`,
-					{},
-					{ blockers }
+					'Another baseline was frozen at the same moment; nothing was stored. Try again.'
 				);
 			}
-			const hash = manifestHash(manifest);
-			const row = await baselines.insert(trx, {
-				project_id: projectId,
-				number,
-				label: parsed.data.label,
-				note: parsed.data.note,
-				manifest: canonical(manifest),
-				manifest_hash: hash,
-				engine_version: ENGINE_VERSION,
-				requirement_count: manifest.requirements.length,
-				created_by: actor.userId ?? null,
-				created_by_label: actor.label
-			});
-			await recordEvent(trx, actor, {
-				projectId,
-				action: 'baseline.freeze',
-				subjectType: 'baseline',
-				subjectId: row.id,
-				after: { number, label: row.label, manifestHash: hash, requirements: row.requirement_count }
-			});
-			return row;
-		},
-		// The manifest is one consistent picture: nothing committed after the snapshot begins shows in it.
-		{ isolationLevel: 'repeatable read' }
-	);
+			throw e;
+		});
 }
 
 export interface Side {
