@@ -17,7 +17,8 @@ afterAll(async () => {
 
 const HOSTILE = {
 	title: '<script>window.__pwned = "title"</script>Hostile title',
-	statement: 'The loop shall remain stable <img src=x onerror="window.__pwned=\'statement\'"> for every gain in the sector [0, 2].',
+	statement:
+		'The loop shall remain stable <img src=x onerror="window.__pwned=\'statement\'"> for every gain in the sector [0, 2].',
 	rationale: '<svg onload="window.__pwned=\'rationale\'"></svg><a href="javascript:window.__pwned=1">x</a>'
 };
 
@@ -44,16 +45,24 @@ describe('markup in requirement text', () => {
 		await page.goto(`${env.baseUrl}/signin`);
 		await page.fill('#email', team.users.viewer.email);
 		await page.fill('#password', team.users.viewer.password);
-		await Promise.all([page.waitForURL((u) => !u.pathname.startsWith('/signin')), page.click('button:has-text("Sign in")')]);
+		await Promise.all([
+			page.waitForURL((u) => !u.pathname.startsWith('/signin')),
+			page.click('button:has-text("Sign in")')
+		]);
 
-		for (const path of [`/p/${team.project.key}/requirements`, `/p/${team.project.key}/requirements/${requirement.id}`]) {
+		for (const path of [
+			`/p/${team.project.key}/requirements`,
+			`/p/${team.project.key}/requirements/${requirement.id}`
+		]) {
 			await page.goto(env.baseUrl + path);
 			await page.waitForLoadState('networkidle');
 			expect(await page.evaluate(() => (window as unknown as { __pwned?: string }).__pwned)).toBeUndefined();
 			const text = await page.textContent('main');
 			expect(text).toContain('<script>window.__pwned = "title"</script>Hostile title');
 			// No element was made from the typed markup.
-			expect(await page.locator('main img[src="x"], main svg[onload], main a[href^="javascript:"]').count()).toBe(0);
+			expect(
+				await page.locator('main img[src="x"], main svg[onload], main a[href^="javascript:"]').count()
+			).toBe(0);
 		}
 		expect(dialogs).toEqual([]);
 		await ctx.close();
