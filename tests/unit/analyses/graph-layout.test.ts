@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { CELL_W, layeredPositions, type Graph } from '../../../src/routes/p/[key=projectKey]/graph/layout';
+import { CELL_W, layeredPositions, type Graph } from '../../../src/lib/graph/layered-layout';
 
 // The trace graph's layered layout at the size the page must stay readable at: 200 requirements.
 function graph(n: number): Graph {
