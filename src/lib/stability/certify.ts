@@ -5,6 +5,8 @@
 
 import {
 	type DPoly,
+	bitLength,
+	evenRealPart,
 	type Dyadic,
 	dyadicToNumber,
 	dyadicOf,
@@ -21,7 +23,7 @@ export type DecisionPath = 'filter' | 'exact';
 export function toFloatWithBounds(c: readonly bigint[]): { a: number[]; err: number[]; shift: number } {
 	let maxBits = 0;
 	for (const v of c) {
-		const b = v === 0n ? 0 : (v < 0n ? -v : v).toString(2).length;
+		const b = bitLength(v);
 		if (b > maxBits) maxBits = b;
 	}
 	const shift = -maxBits;
@@ -30,8 +32,25 @@ export function toFloatWithBounds(c: readonly bigint[]): { a: number[]; err: num
 	return { a, err, shift };
 }
 
+/**
+ * Work limit for the exact fallbacks, in (degree x coefficient bits). Beyond it the exact Routh / Sturm
+ * computation would take seconds to minutes in BigInt arithmetic, so the decision is reported as undecided
+ * (the check then says "inconclusive" with the reason) instead of blocking the caller.
+ */
+export const EXACT_BUDGET = 8_000;
+/** The Routh array is far cheaper than a Sturm sequence (no polynomial remainders), so it gets more room. */
+export const ROUTH_BUDGET = 200_000;
+
+function exactSize(c: readonly bigint[]): number {
+	let bits = 0;
+	for (const v of c) bits = Math.max(bits, bitLength(v));
+	return bits * (c.length - 1);
+}
+
 export interface HurwitzResult {
+	/** True only when decided Hurwitz; see `undecided`. */
 	hurwitz: boolean;
+	undecided?: boolean;
 	path: DecisionPath;
 	roots: C[];
 	/** Largest real part among the roots (numerical, for reporting). */
@@ -57,6 +76,8 @@ export function certifiedHurwitz(p: DPoly, forceExact = false): HurwitzResult {
 			if (someComponentInOpenRHP(disks)) return { hurwitz: false, path: 'filter', roots, maxRealPart: maxRe };
 		}
 	}
+	if (exactSize(c) > ROUTH_BUDGET && !forceExact)
+		return { hurwitz: false, undecided: true, path: 'exact', roots, maxRealPart: maxRe };
 	return { hurwitz: isHurwitzExact(c).hurwitz, path: 'exact', roots, maxRealPart: maxRe };
 }
 
@@ -77,6 +98,8 @@ function someComponentInOpenRHP(disks: Disk[]): boolean {
 }
 
 export interface PositivityResult {
+	/** Set when the exact fallback was beyond EXACT_BUDGET: `positive` is then false but not proved. */
+	undecided?: boolean;
 	/** E(x) > 0 for every x >= 0. */
 	positive: boolean;
 	path: DecisionPath;
@@ -135,10 +158,161 @@ export function certifiedPositiveOnHalfLine(
 				return { positive: false, path: 'filter', witness: x };
 		}
 	}
+	if (!forceExact && exactSize(c) > EXACT_BUDGET) return { positive: false, path: 'exact', undecided: true };
 	const cnt = sturmPositiveRootCount(c);
 	return { positive: cnt === 0, path: 'exact', positiveRoots: cnt };
 }
 
 export function dyadicFromNumber(x: number): Dyadic {
 	return dyadicOf(x);
+}
+
+/** Float copy of an exact polynomial on the common scale 2^shift (given), with rounding bounds. */
+function floatOn(p: DPoly, shift: number): { a: number[]; err: number[] } {
+	const a = p.c.map((v) => dyadicToNumber(v, p.e + shift));
+	return { a, err: a.map((v) => Math.abs(v) * 1.2 * 2 ** -52 + 2 ** -1070) };
+}
+
+function topBit(p: DPoly): number {
+	let top = -Infinity;
+	for (const v of p.c) if (v !== 0n) top = Math.max(top, bitLength(v) + p.e);
+	return top;
+}
+
+/**
+ * Floating E(x) = Re[P(jw) Q(-jw)] with a rigorous bound on |E_m - fl(E_m)|. P, Q are rounded from the exact
+ * polynomials (relative error <= 1.2u each); each E_m is a signed sum of L products, so
+ * |E_m - fl(E_m)| <= ((L + 1) u + 2.4u + 2u^2) S_m with S_m = sum |P_i||Q_j| (Higham, Accuracy and Stability
+ * of Numerical Algorithms, 2nd ed., eq. (3.5) for inner products); S_m itself is computed in floating point,
+ * so the bound is inflated by a further (1 + 2(L + 1)u) and a safety factor of 1.01.
+ */
+export function evenRealPartWithBounds(P: DPoly, Q: DPoly): { a: number[]; err: number[]; shift: number } {
+	const sP = -topBit(P);
+	const sQ = -topBit(Q);
+	const pf = floatOn(P, sP).a;
+	const qf = floatOn(Q, sQ).a.map((v, i) => (i % 2 ? -v : v));
+	const nE = Math.floor((pf.length + qf.length - 2) / 2) + 1;
+	const a: number[] = new Array(nE).fill(0);
+	const err: number[] = new Array(nE).fill(0);
+	const u = 2 ** -53;
+	for (let m = 0; m < nE; m++) {
+		let s = 0;
+		let abs = 0;
+		let L = 0;
+		const k = 2 * m;
+		const i0 = Math.max(0, k - (qf.length - 1));
+		const i1 = Math.min(pf.length - 1, k);
+		for (let i = i0; i <= i1; i++) {
+			const t = pf[i] * qf[k - i];
+			s += t;
+			abs += Math.abs(t);
+			L++;
+		}
+		a[m] = m % 2 ? -s : s;
+		err[m] = ((L + 1) * u + 2.4 * u + 2 * u * u) * abs * (1 + 2 * (L + 1) * u) * 1.01 + 2 ** -1060;
+	}
+	while (a.length > 1 && a[a.length - 1] === 0 && err[err.length - 1] <= 2 ** -1060) {
+		a.pop();
+		err.pop();
+	}
+	// true E = 2^-(sP + sQ) * (a +- err)
+	return { a, err, shift: sP + sQ };
+}
+
+/** Even and odd parts: p(jw) = pe(x) + j w po(x), x = w^2 (exact integer coefficients). */
+function evenOdd(p: DPoly): { e: bigint[]; o: bigint[] } {
+	const e: bigint[] = [];
+	const o: bigint[] = [];
+	for (let i = 0; i < p.c.length; i++) {
+		const k = Math.floor(i / 2);
+		const v = k % 2 ? -p.c[i] : p.c[i];
+		if (i % 2 === 0) e.push(v);
+		else o.push(v);
+	}
+	return { e, o };
+}
+
+function evalAt(c: bigint[], x: Dyadic): { m: bigint; e: number } {
+	// exact value of the integer polynomial at a dyadic point, as m * 2^e
+	const n = c.length - 1;
+	if (n < 0) return { m: 0n, e: 0 };
+	if (x.e >= 0) {
+		const xv = x.m << BigInt(x.e);
+		let acc = 0n;
+		for (let i = n; i >= 0; i--) acc = acc * xv + c[i];
+		return { m: acc, e: 0 };
+	}
+	const f = BigInt(-x.e);
+	let acc = 0n;
+	let d = 1n;
+	for (let i = n; i >= 0; i--) {
+		acc = acc * x.m + c[i] * d;
+		d <<= f;
+	}
+	return { m: acc, e: x.e * n };
+}
+
+function addDy(a: { m: bigint; e: number }, b: { m: bigint; e: number }) {
+	const e = Math.min(a.e, b.e);
+	return { m: (a.m << BigInt(a.e - e)) + (b.m << BigInt(b.e - e)), e };
+}
+
+/**
+ * Exact sign of E(x) = Pe Qe + x Po Qo at a dyadic x >= 0 without forming E: four Horner evaluations of
+ * half-degree integer polynomials.
+ */
+export function signOfEAt(P: DPoly, Q: DPoly, x: number): number {
+	const xd = dyadicOf(x);
+	const p = evenOdd(P);
+	const q = evenOdd(Q);
+	const pe = evalAt(p.e, xd);
+	const qe = evalAt(q.e, xd);
+	const po = evalAt(p.o, xd);
+	const qo = evalAt(q.o, xd);
+	const t1 = { m: pe.m * qe.m, e: pe.e + qe.e };
+	const t2 = { m: po.m * qo.m * xd.m, e: po.e + qo.e + xd.e };
+	const s = addDy(t1, t2);
+	return s.m > 0n ? 1 : s.m < 0n ? -1 : 0;
+}
+
+/**
+ * E(x) = Re[P(jw) Q(-jw)] > 0 on [0, inf)? Floating filter on the bounded floating E first (Smith disks),
+ * exact witnesses at the hints, and the exact polynomial and Sturm sequence only when the filter cannot decide.
+ * Requires deg P, deg Q known (exact inputs); the caller checks the conditions at infinity.
+ */
+export function certifiedPositiveEven(
+	P: DPoly,
+	Q: DPoly,
+	hints: readonly number[] = [],
+	forceExact = false
+): PositivityResult & { E?: DPoly; nearAxis?: number[] } {
+	let nearAxis: number[] | undefined;
+	if (!forceExact) {
+		for (const h of hints) {
+			if (h >= 0 && Number.isFinite(h) && signOfEAt(P, Q, h) <= 0)
+				return { positive: false, path: 'filter', witness: h };
+		}
+		const { a, err } = evenRealPartWithBounds(P, Q);
+		const n = a.length - 1;
+		const lcSure = Math.abs(a[n]) > err[n];
+		const c0Sure = a[0] > err[0];
+		if (n >= 1 && lcSure && c0Sure && a[n] > 0) {
+			const roots = polyRoots(a);
+			nearAxis = roots.filter((r) => r.re > 0 && Math.abs(r.im) < r.re).map((r) => r.re);
+			const disks = inclusionDisks(a, err, roots);
+			if (disks && !disksMeetNonnegativeReals(disks))
+				return { positive: true, path: 'filter', positiveRoots: 0, nearAxis };
+			const reals = roots
+				.filter((r) => r.re > 0 && Math.abs(r.im) <= 1e-6 * Math.max(1e-300, r.re))
+				.map((r) => r.re)
+				.sort((p, q) => p - q);
+			const cand: number[] = [];
+			for (let i = 0; i + 1 < reals.length; i++) cand.push((reals[i] + reals[i + 1]) / 2);
+			for (const x of cand)
+				if (signOfEAt(P, Q, x) <= 0) return { positive: false, path: 'filter', witness: x, nearAxis };
+		} else if (n === 0 && a[0] > err[0]) return { positive: true, path: 'filter', positiveRoots: 0 };
+	}
+	// Second stage: the exact E, rounded once (tight bounds), through the same filter; then Sturm.
+	const E = evenRealPart(P, Q);
+	return { ...certifiedPositiveOnHalfLine(E, hints, forceExact), E, nearAxis };
 }

@@ -46,10 +46,16 @@ export function dyadicOf(x: number): Dyadic {
 	return { m: sign * m, e };
 }
 
+/**
+ * Bit length of |a|, possibly one too large (when |a| is just below a power of two and converting to a
+ * double rounds up). Used only for choosing scale factors, never for a decision.
+ */
 export function bitLength(a: bigint): number {
 	if (a < 0n) a = -a;
 	if (a === 0n) return 0;
-	return a.toString(2).length;
+	const x = Number(a);
+	if (x < 2 ** 1000) return Math.floor(Math.log2(x)) + 1;
+	return a.toString(16).length * 4;
 }
 
 /** x * 2^k without intermediate overflow or underflow where the result is representable. */
@@ -298,23 +304,40 @@ export function pseudoRemainder(a: readonly bigint[], b: readonly bigint[]): { r
 /**
  * Number of distinct real roots of p in the open interval (0, +inf), by Sturm's theorem (Sturm 1829;
  * e.g. Basu, Pollack & Roy, Algorithms in Real Algebraic Geometry, 2nd ed., Theorem 2.50). The sequence
- * is p, p', -rem, ... with every remainder made primitive by a positive content, which keeps signs.
- * Requires p(0) != 0. Sign at 0+ is the sign of the lowest nonzero coefficient; at +inf, of the leading one.
+ * p, p', -rem, ... is formed with the subresultant pseudo-remainder sequence (Collins 1967; Brown &
+ * Traub 1971; Cohen, A Course in Computational Algebraic Number Theory, Algorithm 3.3.1), whose exact
+ * divisions keep coefficient growth linear without gcds. Every element is scaled by a positive factor only
+ * (signs are fixed so each one is a positive multiple of the negated remainder), so the sign variations
+ * are those of the Sturm sequence. Requires p(0) != 0. Sign at 0+ is the sign of the lowest nonzero
+ * coefficient; at +inf, of the leading one.
  */
 export function sturmPositiveRootCount(p: readonly bigint[]): number {
 	const p0 = trimInt(primitive(p));
 	if (p0.length <= 1) return 0;
 	if (p0[0] === 0n) throw new RangeError('sturmPositiveRootCount: p(0) = 0');
-	const seq: bigint[][] = [p0, primitive(derivInt(p0))];
-	while (seq[seq.length - 1].length > 1) {
-		const a = seq[seq.length - 2];
-		const b = seq[seq.length - 1];
-		const { r, sign } = pseudoRemainder(a, b);
+	const seq: bigint[][] = [p0, derivInt(p0)];
+	let g = 1n;
+	let h = 1n;
+	for (;;) {
+		const A = seq[seq.length - 2];
+		const B = seq[seq.length - 1];
+		if (B.length <= 1) break;
+		const delta = A.length - B.length;
+		const { r, sign } = pseudoRemainder(A, B);
 		if (r.length === 0) break;
-		const pr = primitive(r);
-		// Sturm wants -rem(a, b); prem = (positive or negative multiplier) * rem.
-		const s = -sign;
-		seq.push(s === 1 ? pr : pr.map((v) => -v));
+		const den = g * h ** BigInt(delta);
+		const q = r.map((v) => {
+			if (v % den !== 0n) throw new RangeError('subresultant division not exact');
+			return v / den;
+		});
+		// prem = lc(B)^(delta+1) rem with sign `sign`; the Sturm element is a positive multiple of -rem.
+		seq.push(sign === 1 ? q.map((v) => -v) : q);
+		const lcA = absB(B[B.length - 1]);
+		g = lcA;
+		if (delta === 0) {
+			// h unchanged
+		} else if (delta === 1) h = g;
+		else h = g ** BigInt(delta) / h ** BigInt(delta - 1);
 	}
 	const varAt = (pick: (q: bigint[]) => bigint) => {
 		let v = 0;
@@ -331,10 +354,7 @@ export function sturmPositiveRootCount(p: readonly bigint[]): number {
 		for (const v of q) if (v !== 0n) return v;
 		return 0n;
 	};
-	// At 0+ the sign of q is the sign of its lowest nonzero coefficient (q(0) when nonzero).
-	const v0 = varAt(lowest);
-	const vInf = varAt((q) => q[q.length - 1]);
-	return v0 - vInf;
+	return varAt(lowest) - varAt((q) => q[q.length - 1]);
 }
 
 /** Sign variations of an integer sequence, zeros skipped (Descartes' rule of signs). */

@@ -57,7 +57,10 @@ function baseFrequencies(plant: Plant, opts: CurveOptions): number[] {
 	};
 	for (const f of feats) if (f.wd > 0 && f.sigma < 0.5 * f.wd) around(f.wd, Math.max(f.sigma, 1e-12 * f.wd));
 	for (const w of opts.focus ?? []) if (w > 0) around(w / plant.w0, (w / plant.w0) * 1e-3);
-	return ws.filter((w) => w >= lo && w <= hi).sort((a, b) => a - b);
+	return ws
+		.filter((w) => w >= lo && w <= hi)
+		.sort((a, b) => a - b)
+		.filter((w, i, a) => i === 0 || w > a[i - 1]);
 }
 
 function refine(ws: number[], f: (w: number) => { re: number; im: number }, maxPoints: number): CurvePoint[] {

@@ -34,22 +34,39 @@ function hornerC(a: readonly number[], zr: number, zi: number): [number, number,
 	return [pr, pi, dr, di];
 }
 
-/** Newton correction p(z)/p'(z), evaluated through the reversed polynomial when |z| > 1 to avoid overflow. */
-function newtonCorrection(a: readonly number[], rev: readonly number[], zr: number, zi: number): C {
+function absSum(a: readonly number[], r: number): number {
+	let s = 0;
+	for (let k = a.length - 1; k >= 0; k--) s = s * r + Math.abs(a[k]);
+	return s;
+}
+
+/**
+ * Newton correction p(z)/p'(z), evaluated through the reversed polynomial when |z| > 1 to avoid overflow.
+ * `small` is set when |p(z)| is below the rounding level of its own evaluation (the stopping rule of
+ * Bini 1996, section 3): further iterations cannot improve z.
+ */
+function newtonCorrection(
+	a: readonly number[],
+	rev: readonly number[],
+	zr: number,
+	zi: number
+): C & { small?: boolean } {
 	const n = a.length - 1;
 	const m2 = zr * zr + zi * zi;
 	if (m2 <= 1) {
 		const [pr, pi, dr, di] = hornerC(a, zr, zi);
+		const small = Math.sqrt(pr * pr + pi * pi) <= 4 * (n + 1) * U * absSum(a, Math.sqrt(m2));
 		const d2 = dr * dr + di * di;
-		if (d2 === 0) return { re: 0, im: 0 };
-		return { re: (pr * dr + pi * di) / d2, im: (pi * dr - pr * di) / d2 };
+		if (d2 === 0) return { re: 0, im: 0, small };
+		return { re: (pr * dr + pi * di) / d2, im: (pi * dr - pr * di) / d2, small };
 	}
 	// y = 1/z; p(z) = z^n r(y); p'(z)/p(z) = y (n - y r'(y)/r(y)); correction = z / (n - y r'/r)
 	const yr = zr / m2;
 	const yi = -zi / m2;
 	const [rr, ri, sr, si] = hornerC(rev, yr, yi);
+	const small = Math.sqrt(rr * rr + ri * ri) <= 4 * (n + 1) * U * absSum(rev, 1 / Math.sqrt(m2));
 	const r2 = rr * rr + ri * ri;
-	if (r2 === 0) return { re: 0, im: 0 };
+	if (r2 === 0) return { re: 0, im: 0, small };
 	// t = y r'/r
 	const qr = (sr * rr + si * ri) / r2;
 	const qi = (si * rr - sr * ri) / r2;
@@ -58,8 +75,8 @@ function newtonCorrection(a: readonly number[], rev: readonly number[], zr: numb
 	const dr = n - tr;
 	const di = -ti;
 	const d2 = dr * dr + di * di;
-	if (d2 === 0) return { re: 0, im: 0 };
-	return { re: (zr * dr + zi * di) / d2, im: (zi * dr - zr * di) / d2 };
+	if (d2 === 0) return { re: 0, im: 0, small };
+	return { re: (zr * dr + zi * di) / d2, im: (zi * dr - zr * di) / d2, small };
 }
 
 /** Starting points from the upper convex hull of (i, log|a_i|) (Bini 1996, section 4). */
@@ -167,8 +184,8 @@ export function polyRoots(aIn: readonly number[], maxIter = 500): C[] {
 			}
 			zi.re -= cr;
 			zi.im -= ci;
-			const mag = Math.hypot(zi.re, zi.im);
-			if (Math.hypot(cr, ci) <= 4 * U * mag || (cr === 0 && ci === 0)) done[i] = true;
+			const mag2 = zi.re * zi.re + zi.im * zi.im;
+			if (cr * cr + ci * ci <= 16 * U * U * mag2 || (cr === 0 && ci === 0) || w.small) done[i] = true;
 		}
 		if (active === 0) break;
 	}
@@ -203,6 +220,7 @@ export function inclusionDisks(a: readonly number[], err: readonly number[], z: 
 	if (!(lc > 0)) return null;
 	const gamma = (8 * n + 8) * U;
 	const disks: Disk[] = [];
+	const rev = a.slice().reverse();
 	for (let i = 0; i < n; i++) {
 		const zr = z[i].re;
 		const zi = z[i].im;
@@ -224,7 +242,6 @@ export function inclusionDisks(a: readonly number[], err: readonly number[], z: 
 			const m2 = zr * zr + zi * zi;
 			const yr = zr / m2;
 			const yi = -zi / m2;
-			const rev = a.slice().reverse();
 			const [rr, ri] = hornerC(rev, yr, yi);
 			const ym = 1 / mag;
 			let s = 0;
@@ -240,9 +257,11 @@ export function inclusionDisks(a: readonly number[], err: readonly number[], z: 
 		let logDen = Math.log2(lc);
 		for (let j = 0; j < n; j++) {
 			if (j === i) continue;
-			const d = Math.hypot(zr - z[j].re, zi - z[j].im);
-			if (d === 0) return null;
-			logDen += Math.log2(d);
+			const dr = zr - z[j].re;
+			const di = zi - z[j].im;
+			const d2 = dr * dr + di * di;
+			if (d2 === 0) return null;
+			logDen += 0.5 * Math.log2(d2);
 		}
 		const r = n * 2 ** (logP - logDen) * (1 + 1e-6) + 4 * U * mag;
 		if (!Number.isFinite(r)) return null;
@@ -301,12 +320,14 @@ export function positiveRealRoots(a: readonly number[], relImTol = 1e-7): number
 		if (Math.abs(r.im) > relImTol * Math.max(1, Math.abs(r.re)) && Math.abs(r.im) > 1e-9 * Math.abs(r.re))
 			continue;
 		let x = r.re;
-		for (let k = 0; k < 4; k++) {
+		for (let k = 0; k < 40; k++) {
 			const dv = hornerR(d, x);
 			if (dv === 0) break;
 			const nx = x - hornerR(t, x) / dv;
 			if (!(nx > 0) || !Number.isFinite(nx)) break;
+			const done = Math.abs(nx - x) <= 1e-15 * x;
 			x = nx;
+			if (done) break;
 		}
 		out.push(x);
 	}
@@ -354,4 +375,87 @@ export function trimR(a: readonly number[]): number[] {
 	const t = a.slice();
 	while (t.length && t[t.length - 1] === 0) t.pop();
 	return t;
+}
+
+/**
+ * Minimum of u(x)/v(x) on [0, inf) (v > 0 there) from candidate points refined by Newton's method on the
+ * stationary condition h = u'v - uv' = 0. Candidates: x = 0, a coarse logarithmic sweep, and the given
+ * points (near-axis roots of the polynomials involved: resonances and near-crossings), which is where
+ * narrow dips live. A numerical report, never a verdict; cheaper than `minRatioOnHalfLine`.
+ */
+export function minRatioFromCandidates(
+	u: readonly number[],
+	v: readonly number[],
+	cands: readonly number[],
+	range: [number, number] = [1e-6, 1e6]
+): { value: number; x: number | null; atInfinity: boolean } {
+	const ut = trimR(u);
+	const vt = trimR(v);
+	const f = (x: number) => hornerR(ut, x) / hornerR(vt, x);
+	const du = derivR(ut);
+	const dv = derivR(vt);
+	const ddu = derivR(du);
+	const ddv = derivR(dv);
+	const h = (x: number) => hornerR(du, x) * hornerR(vt, x) - hornerR(ut, x) * hornerR(dv, x);
+	const dh = (x: number) => hornerR(ddu, x) * hornerR(vt, x) - hornerR(ut, x) * hornerR(ddv, x);
+	let best = f(0);
+	let bx: number | null = 0;
+	const pts: number[] = [];
+	const [lo, hi] = range;
+	const N = 48;
+	const sweep: { x: number; f: number }[] = [];
+	for (let i = 0; i <= N; i++) {
+		const x = lo * (hi / lo) ** (i / N);
+		sweep.push({ x, f: f(x) });
+	}
+	for (let i = 0; i <= N; i++) {
+		const l = i > 0 ? sweep[i - 1].f : Infinity;
+		const r = i < N ? sweep[i + 1].f : Infinity;
+		if (sweep[i].f <= l && sweep[i].f <= r) pts.push(sweep[i].x);
+	}
+	for (const c of cands) if (c > 0 && Number.isFinite(c)) pts.push(c);
+	// Refine only the most promising starting points (lowest values), which is where the minimum is.
+	const start = pts
+		.map((x) => ({ x, f: f(x) }))
+		.filter((p) => Number.isFinite(p.f))
+		.sort((a, b) => a.f - b.f)
+		.slice(0, 6);
+	for (const { x: x0 } of start) {
+		let x = x0;
+		let fx = f(x);
+		for (let k = 0; k < 20; k++) {
+			const d = dh(x);
+			if (d === 0 || !Number.isFinite(d)) break;
+			let nx = x - h(x) / d;
+			if (!(nx > 0) || !Number.isFinite(nx)) nx = x / 2;
+			if (nx > 4 * x) nx = 4 * x;
+			if (nx < x / 4) nx = x / 4;
+			const fn = f(nx);
+			if (!(fn <= fx) && k > 0) break;
+			const done = Math.abs(nx - x) <= 1e-15 * x;
+			x = nx;
+			fx = fn;
+			if (done) break;
+		}
+		if (Number.isFinite(fx) && fx < best) {
+			best = fx;
+			bx = x;
+		}
+	}
+	const dU = ut.length - 1;
+	const dV = vt.length - 1;
+	const lim = dU < dV ? 0 : dU === dV ? ut[dU] / vt[dV] : Math.sign(ut[dU] / vt[dV]) * Infinity;
+	if (lim < best) return { value: lim, x: null, atInfinity: true };
+	return { value: best, x: bx, atInfinity: false };
+}
+
+/** x = w^2 locations of the resonances of roots s = q (near-axis roots give dips): x = Re(-q^2) when > 0. */
+export function resonanceX(roots: readonly C[]): number[] {
+	const out: number[] = [];
+	for (const q of roots) {
+		if (q.im <= 0) continue;
+		const x = q.im * q.im - q.re * q.re;
+		if (x > 0) out.push(x, q.im * q.im);
+	}
+	return out;
 }

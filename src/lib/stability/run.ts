@@ -26,12 +26,16 @@ function ensureCheck(check: Check): Check {
 	return r.data;
 }
 
-const validated = new WeakSet<object>();
+// Parsed models by input object, so repeated checks on the same model reuse its exact polynomials.
+const validated = new WeakMap<object, Model>();
 
 /** Run one check. Inputs are validated (ModelInputError on bad input); results are plain data. */
 export function runCheck(modelIn: Model, checkIn: Check): CheckResult {
-	const model = validated.has(modelIn) ? modelIn : ensureModel(modelIn);
-	validated.add(model);
+	let model = typeof modelIn === 'object' && modelIn !== null ? validated.get(modelIn) : undefined;
+	if (!model) {
+		model = ensureModel(modelIn);
+		if (typeof modelIn === 'object' && modelIn !== null) validated.set(modelIn, model);
+	}
 	const check = ensureCheck(checkIn);
 	const plant = preparePlant(model);
 	switch (check.type) {

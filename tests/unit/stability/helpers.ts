@@ -1,19 +1,20 @@
 // Independent references for the engine tests: high-precision evaluation with mathjs BigNumber (a general
 // library, not engine code) and plant construction from known factors.
-import { all, create } from 'mathjs';
+import { all, create, type BigNumber } from 'mathjs';
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 
 const math = create(all, { number: 'BigNumber', precision: 64 });
-type BN = ReturnType<typeof math.bignumber>;
+type BN = BigNumber;
+const big = (x: number): BN => math.bignumber(x) as BN;
 
 /** Re and Im of p(jw), p highest power first, in 64-digit arithmetic. */
 function evalJwBig(p: number[], w: BN): { re: BN; im: BN } {
-	let re = math.bignumber(0);
-	let im = math.bignumber(0);
+	let re = big(0);
+	let im = big(0);
 	for (const c of p) {
 		// (re + j im)(j w) + c
-		const nre = math.add(math.multiply(math.unaryMinus(im), w), math.bignumber(c)) as BN;
-		const nim = math.multiply(re, w) as BN;
+		const nre = im.neg().times(w).plus(big(c));
+		const nim = re.times(w);
 		re = nre;
 		im = nim;
 	}
@@ -22,13 +23,13 @@ function evalJwBig(p: number[], w: BN): { re: BN; im: BN } {
 
 /** G(jw) = num(jw)/den(jw) at 64 digits, returned as doubles. */
 export function gJwBig(num: number[], den: number[], w: number): { re: number; im: number } {
-	const W = math.bignumber(w);
+	const W = big(w);
 	const n = evalJwBig(num, W);
 	const d = evalJwBig(den, W);
-	const d2 = math.add(math.multiply(d.re, d.re), math.multiply(d.im, d.im)) as BN;
-	const re = math.divide(math.add(math.multiply(n.re, d.re), math.multiply(n.im, d.im)), d2) as BN;
-	const im = math.divide(math.subtract(math.multiply(n.im, d.re), math.multiply(n.re, d.im)), d2) as BN;
-	return { re: Number(re.toString()), im: Number(im.toString()) };
+	const d2 = d.re.times(d.re).plus(d.im.times(d.im));
+	const re = n.re.times(d.re).plus(n.im.times(d.im)).div(d2);
+	const im = n.im.times(d.re).minus(n.re.times(d.im)).div(d2);
+	return { re: re.toNumber(), im: im.toNumber() };
 }
 
 /** Minimum of Re G(jw) over a dense log grid (an upper bound on the true minimum). */

@@ -59,6 +59,10 @@ export function runCircle(plant: Plant, k1: number, k2: number): CheckResult {
 				reason =
 					'At high frequency Re Z does not stay positive in the way strict positive realness requires (relative degree of Z above one).';
 				break;
+			case 'undecided':
+				reason =
+					'The case sits so close to the boundary that the floating-point filter could not decide it, and the exact fallback is beyond its work limit for polynomials of this size.';
+				break;
 			case 'lossless':
 				reason = 'Re Z(jw) is identically zero: Z is lossless, not strictly positive real.';
 				break;
@@ -67,11 +71,14 @@ export function runCircle(plant: Plant, k1: number, k2: number): CheckResult {
 					core.witnessX !== undefined ? ` (shown exactly at ${fmt(wOf(core.witnessX) ?? 0)} rad/s)` : ''
 				}.`;
 		}
-		explanation = `Not certified for the sector ${sector}: ${reason.charAt(0).toLowerCase()}${reason.slice(1)}`;
+		explanation =
+			core.failure === 'undecided'
+				? `Undecided for the sector ${sector}: ${reason.charAt(0).toLowerCase()}${reason.slice(1)}`
+				: `Not certified for the sector ${sector}: ${reason.charAt(0).toLowerCase()}${reason.slice(1)}`;
 	}
 	return {
 		type: 'circle',
-		verdict: core.pass ? 'pass' : 'fail',
+		verdict: core.pass ? 'pass' : core.failure === 'undecided' ? 'inconclusive' : 'fail',
 		criticalFrequency,
 		margin: enc(core.minReZ ?? NaN),
 		numbers,

@@ -8,15 +8,15 @@
 // either Z(inf) > 0 or Z(inf) = 0 with lim w^2 Re Z(jw) > 0. Re Z(jw) = E(x) / |Q(jw)|^2 with
 // E(x) = Re[P(jw) Q(-jw)], x = w^2, so the frequency condition is E > 0 on [0, inf).
 import { type DPoly, addD, degree, dyadicOf, evenRealPart, isZero, scaleD } from '../exact';
-import { certifiedHurwitz, certifiedPositiveOnHalfLine, type DecisionPath } from '../certify';
+import { certifiedHurwitz, certifiedPositiveEven, type DecisionPath } from '../certify';
 import { addF, evenRealPartF, toFloat, toFloatCommon } from '../fpoly';
 import type { Plant } from '../model';
-import { minRatioOnHalfLine } from '../roots';
+import { type C, minRatioFromCandidates, polyRoots, resonanceX } from '../roots';
 
 export interface CircleCore {
 	pass: boolean;
 	/** Which condition failed, in words; undefined on pass. */
-	failure?: 'ill-posed' | 'hurwitz' | 'infinity' | 'frequency' | 'lossless';
+	failure?: 'ill-posed' | 'hurwitz' | 'infinity' | 'frequency' | 'lossless' | 'undecided';
 	qHurwitz: boolean;
 	hurwitzPath: DecisionPath;
 	positivityPath?: DecisionPath;
@@ -27,7 +27,6 @@ export interface CircleCore {
 	/** min over w of Re Z(jw), numerical, and where (scaled x), null at infinity. */
 	minReZ?: number;
 	argminX?: number | null;
-	E?: DPoly;
 }
 
 export function zPolys(plant: Plant, k1: number, k2: number): { P: DPoly; Q: DPoly } {
@@ -52,17 +51,26 @@ export function circleCore(
 		return { pass: false, failure: 'ill-posed', qHurwitz: false, hurwitzPath: 'exact', qMaxRealPart: null };
 	const h = certifiedHurwitz(Q, opts.forceExact);
 	const base = { qHurwitz: h.hurwitz, hurwitzPath: h.path, qMaxRealPart: h.maxRealPart };
+	if (h.undecided) return { pass: false, failure: 'undecided', ...base };
 	if (!h.hurwitz) return { pass: false, failure: 'hurwitz', ...base };
-	const E = evenRealPart(P, Q);
-	if (isZero(E)) return { pass: false, failure: 'lossless', ...base, E };
-	// Numerical minimum of Re Z = E / |Q|^2 (a hint for the exact witness search and the report).
-	const [Ef, Mf] = toFloatCommon([E, evenRealPart(Q, Q)]);
-	const mn = minRatioOnHalfLine(Ef, Mf);
+	// Infinity part of Lemma 6.1: relative degree of Z at most 1 and deg E >= n - 1 (E's top coefficients
+	// are decided exactly from those of P and Q).
+	const topE = exactTopDegree(P, Q, n);
+	const pos =
+		topE === -1 || degree(P) < n - 1 || topE < n - 1
+			? null
+			: certifiedPositiveEven(P, Q, [], opts.forceExact);
+	// Numerical minimum of Re Z = E / |Q|^2 for the report, refined from the resonances of Q and the
+	// near-axis roots of E (where narrow dips are).
+	const [Pf, Qf] = toFloatCommon([P, Q]);
+	const cands = [...resonanceX(h.roots), ...(pos?.nearAxis ?? [])];
+	if (pos?.witness !== undefined) cands.push(pos.witness);
+	const mn = minRatioFromCandidates(evenRealPartF(Pf, Qf), evenRealPartF(Qf, Qf), cands, xRange(h.roots));
 	const numeric = { minReZ: mn.value, argminX: mn.x };
-	// Infinity part of Lemma 6.1: relative degree of Z at most 1 and deg E >= n - 1.
-	if (degree(P) < n - 1 || degree(E) < n - 1)
-		return { pass: false, failure: 'infinity', ...base, ...numeric, E };
-	const pos = certifiedPositiveOnHalfLine(E, mn.x !== null ? [mn.x] : [], opts.forceExact);
+	if (topE === -1) return { pass: false, failure: 'lossless', ...base, ...numeric };
+	if (pos === null) return { pass: false, failure: 'infinity', ...base, ...numeric };
+	if (pos.undecided)
+		return { pass: false, failure: 'undecided', ...base, positivityPath: pos.path, ...numeric };
 	if (!pos.positive)
 		return {
 			pass: false,
@@ -70,10 +78,28 @@ export function circleCore(
 			...base,
 			positivityPath: pos.path,
 			witnessX: pos.witness,
-			...numeric,
-			E
+			...numeric
 		};
-	return { pass: true, ...base, positivityPath: pos.path, ...numeric, E };
+	return { pass: true, ...base, positivityPath: pos.path, ...numeric };
+}
+
+/**
+ * Exact degree of E = Re[P(jw) Q(-jw)] when it is n or n - 1 (computed from the top coefficients only),
+ * n - 2 meaning "below n - 1", and -1 when E is identically zero (then checked in full).
+ */
+function exactTopDegree(P: DPoly, Q: DPoly, n: number): number {
+	const coeff = (m: number) => {
+		// E_m = (-1)^m sum_{i + j = 2m} (-1)^j p_i q_j
+		let s = 0n;
+		for (let i = Math.max(0, 2 * m - (Q.c.length - 1)); i <= Math.min(P.c.length - 1, 2 * m); i++) {
+			const j = 2 * m - i;
+			s += (j % 2 ? -1n : 1n) * P.c[i] * Q.c[j];
+		}
+		return s;
+	};
+	if (coeff(n) !== 0n) return n;
+	if (n >= 1 && coeff(n - 1) !== 0n) return n - 1;
+	return isZero(evenRealPart(P, Q)) ? -1 : n - 2;
 }
 
 /** Disk D(k1, k2) of Khalil section 7.1: centre and radius on the real axis, or the half-plane for k1 = 0. */
@@ -100,6 +126,10 @@ export function nyquistDistance(
 	const [Nf, Df] = toFloatCommon([plant.Ns, plant.Ds]);
 	const g = diskOf(k1, k2);
 	const DD = evenRealPartF(Df, Df);
+	const dr = denominatorRoots(plant);
+	const cands = resonanceX(dr);
+	const range = xRange(dr);
+	const minRatioOnHalfLine = (u: number[], v: number[]) => minRatioFromCandidates(u, v, cands, range);
 	if (g.kind === 'half-plane') {
 		const m = minRatioOnHalfLine(evenRealPartF(Nf, Df), DD);
 		return { distance: m.value - g.boundary, x: m.x };
@@ -118,3 +148,30 @@ export function nyquistDistance(
 }
 
 export { toFloat };
+
+/** Sweep range in x = w^2 around the root magnitudes (scaled units). */
+export function xRange(roots: readonly C[]): [number, number] {
+	let lo = Infinity;
+	let hi = 0;
+	for (const r of roots) {
+		const m = r.re * r.re + r.im * r.im;
+		if (m > 0) {
+			lo = Math.min(lo, m);
+			hi = Math.max(hi, m);
+		}
+	}
+	if (!(hi > 0)) return [1e-6, 1e6];
+	return [lo * 1e-4, hi * 1e4];
+}
+
+const rootCache = new WeakMap<Plant, C[]>();
+
+/** Roots of the scaled denominator (numerical, cached per plant; for candidate frequencies only). */
+export function denominatorRoots(plant: Plant): C[] {
+	let r = rootCache.get(plant);
+	if (!r) {
+		r = polyRoots(toFloatCommon([plant.Ds])[0]);
+		rootCache.set(plant, r);
+	}
+	return r;
+}

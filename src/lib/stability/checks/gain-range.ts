@@ -23,7 +23,8 @@ export interface GainInterval {
 export function hurwitzAtGain(plant: Plant, k: number): boolean {
 	const p = isZero(plant.Ns) ? plant.Ds : addD(plant.Ds, scaleD(plant.Ns, dyadicOf(k)));
 	if (p.c.length - 1 < plant.order) return false;
-	return certifiedHurwitz(p).hurwitz;
+	const h = certifiedHurwitz(p);
+	return h.hurwitz && !h.undecided;
 }
 
 export function linearGainIntervals(plant: Plant): GainInterval[] {

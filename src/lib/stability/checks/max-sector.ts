@@ -35,7 +35,8 @@ function estimateK2(plant: Plant, k1: number): { k2: number; x: number | null } 
 	if (B.length === 0) return { k2: Infinity, x: null };
 	const cand: (number | null)[] = [0];
 	const stat = subR(mulR(derivR(A), B), mulR(A, derivR(B)));
-	for (const x of positiveRealRoots(stat)) cand.push(x);
+	// Accept roots well off the axis too (repeated factors make the stationary roots inaccurate) and polish.
+	for (const x of positiveRealRoots(stat, 0.05)) cand.push(x);
 	let best = Infinity;
 	let bx: number | null = null;
 	for (const x of cand) {
@@ -59,7 +60,43 @@ function estimateK2(plant: Plant, k1: number): { k2: number; x: number | null } 
 			bx = null;
 		}
 	}
+	// Independent sweep with local refinement (robust when repeated factors spoil the stationary roots).
+	const sw = sweepEstimate(A, B);
+	if (sw.k2 < best) return sw;
 	return { k2: best, x: bx };
+}
+
+function sweepEstimate(A: number[], B: number[]): { k2: number; x: number | null } {
+	const r = (x: number) => {
+		const b = hornerR(B, x);
+		return b < 0 ? -hornerR(A, x) / b : Infinity;
+	};
+	const N = 2000;
+	let best = Infinity;
+	let bi = -1;
+	const xs: number[] = [];
+	for (let i = 0; i <= N; i++) xs.push(1e-8 * 1e16 ** (i / N));
+	xs.forEach((x, i) => {
+		const v = r(x);
+		if (v < best) {
+			best = v;
+			bi = i;
+		}
+	});
+	if (bi < 0) return { k2: Infinity, x: null };
+	// Golden-section refinement in log x between the neighbours.
+	let a = Math.log(xs[Math.max(0, bi - 1)]);
+	let b = Math.log(xs[Math.min(N, bi + 1)]);
+	const phi = (Math.sqrt(5) - 1) / 2;
+	for (let it = 0; it < 100; it++) {
+		const c = b - phi * (b - a);
+		const d = a + phi * (b - a);
+		if (r(Math.exp(c)) < r(Math.exp(d))) b = d;
+		else a = c;
+	}
+	const xm = Math.exp((a + b) / 2);
+	const vm = r(xm);
+	return vm < best ? { k2: vm, x: xm } : { k2: best, x: xs[bi] };
 }
 
 export function maxSectorCore(plant: Plant, k1: number): MaxSectorCore {
@@ -81,39 +118,76 @@ export function maxSectorCore(plant: Plant, k1: number): MaxSectorCore {
 		if (inf.pass)
 			return { feasible: true, threshold: Infinity, failAbove: null, estimate: Infinity, argminX: null };
 	}
-	// Certify just below the estimate; bisect on the exact test if the first try fails.
-	const tryAt = (k2: number) => circleCore(plant, k1, k2).pass;
-	let lo = k1;
-	let hi = Number.isFinite(est.k2) ? est.k2 : Math.max(1, Math.abs(k1)) * 2;
-	if (!Number.isFinite(est.k2)) {
-		// Estimate says unbounded but the infinite sector failed (a condition at infinity): grow until failure.
-		let g = hi;
-		for (let i = 0; i < 200 && tryAt(g); i++) {
-			lo = g;
-			g *= 4;
-		}
+	// Certify just below the estimate (and show failure just above), widening the offset when a decision is
+	// too close to the boundary for the filter; bisect on the certified test if the estimate was wrong.
+	const tryAt = (k2: number): 'pass' | 'fail' | 'undecided' => {
+		const c = circleCore(plant, k1, k2);
+		return c.pass ? 'pass' : c.failure === 'undecided' ? 'undecided' : 'fail';
+	};
+	let hi = est.k2;
+	if (!(hi > k1)) {
+		// The floating estimate is unusable (cancellation near repeated roots): the sector can be no wider than
+		// the linear gain range, so bisect below its upper end.
+		const iv = intervalContaining(linearGainIntervals(plant), k1 + Math.abs(k1) * 1e-12 + 1e-300);
+		hi = iv && Number.isFinite(iv.high) ? iv.high : Math.max(1, Math.abs(k1)) * 2;
+	}
+	if (!Number.isFinite(hi)) {
+		// Estimate unbounded but the infinite sector failed (a condition at infinity): grow until failure.
+		let g = Math.max(1, Math.abs(k1)) * 2;
+		for (let i = 0; i < 200 && tryAt(g) === 'pass'; i++) g *= 4;
 		hi = g;
 	}
 	let threshold: number | null = null;
 	let failAbove: number | null = null;
 	const span = hi - k1;
-	const below = hi - span * 1e-9;
-	if (below > k1 && tryAt(below)) threshold = below;
-	const above = hi + Math.max(span, 1e-300) * 1e-9;
-	if (!tryAt(above)) failAbove = above;
-	if (threshold === null) {
-		let a = lo;
-		let b = failAbove ?? above;
-		for (let i = 0; i < 80; i++) {
+	let wrong = false;
+	for (const f of [1e-10, 1e-8, 1e-6, 1e-4, 1e-2, 0.1]) {
+		const below = hi - span * f;
+		if (!(below > k1)) break;
+		const r = tryAt(below);
+		if (r === 'pass') {
+			threshold = below;
+			break;
+		}
+		if (r === 'fail') {
+			wrong = true;
+			break;
+		}
+	}
+	for (const f of [1e-10, 1e-8, 1e-6, 1e-4, 1e-2, 0.1]) {
+		const above = hi + span * f;
+		const r = tryAt(above);
+		if (r === 'fail') {
+			failAbove = above;
+			break;
+		}
+		if (r === 'pass') {
+			threshold = above;
+			break;
+		}
+	}
+	if (wrong || threshold === null) {
+		let a = k1;
+		let b = failAbove ?? hi;
+		for (let i = 0; i < 40; i++) {
 			const m = (a + b) / 2;
-			if (m <= a || m >= b) break;
-			if (tryAt(m)) a = m;
+			if (m <= a || m >= b || b - a <= 1e-9 * Math.abs(b)) break;
+			const r = tryAt(m);
+			// An undecided test is treated as "not certified": the reported bound stays a proved one.
+			if (r === 'pass') a = m;
 			else b = m;
 		}
-		if (a > k1) threshold = a;
-		failAbove = b;
+		threshold = a > k1 ? a : threshold;
+		failAbove = failAbove ?? b;
 	}
-	return { feasible: threshold !== null, threshold, failAbove, estimate: est.k2, argminX: est.x };
+	// Report the frequency where Re Z is smallest at the certified threshold (robust even when the estimate
+	// above was off, e.g. for repeated factors).
+	let argminX = est.x;
+	if (threshold !== null && Number.isFinite(threshold)) {
+		const at = circleCore(plant, k1, threshold);
+		if (at.argminX !== undefined) argminX = at.argminX;
+	}
+	return { feasible: threshold !== null, threshold, failAbove, estimate: est.k2, argminX };
 }
 
 function intervalOut(
@@ -146,13 +220,19 @@ export function runMaxSector(plant: Plant, k1: number): CheckResult {
 	}
 	return {
 		type: 'max-sector',
-		verdict: core.feasible ? 'pass' : 'fail',
+		verdict: core.feasible ? 'pass' : core.reason ? 'fail' : 'inconclusive',
 		threshold: enc(core.threshold),
 		criticalFrequency: w,
 		linearGainIntervals: intervalOut(iv),
 		numbers,
 		explanation,
-		...(core.feasible ? {} : { reason: core.reason }),
+		...(core.feasible
+			? {}
+			: {
+					reason:
+						core.reason ??
+						'No sector above k1 could be certified within the work limit of the exact fallback (the floating-point filter cannot resolve this plant, e.g. highly repeated lightly damped factors).'
+				}),
 		assumptions:
 			'The threshold is certified by the exact circle test; the linear gain range holds for constant gains only, the sector for any nonlinearity in it.'
 	};
