@@ -135,6 +135,10 @@ async function measure(): Promise<Row[]> {
 		const cold = timeIt(() => runCheck({ kind: 'tf', num: tf.num, den: tf.den }, check), 200);
 		// Warm: the same model object (its exact polynomials cached), i.e. the check alone.
 		const warm = timeIt(() => runCheck(tfModel, check), 200);
+		// The matching case just outside the dip (right answer: pass), which needs the full positivity proof.
+		const passCheck = { type: 'circle' as const, sector: [0, kStar * 0.99] as [number, number] };
+		const passVerdict = runCheck(tfModel, passCheck).verdict;
+		const passMs = timeIt(() => runCheck({ kind: 'tf', num: tf.num, den: tf.den }, passCheck), 200);
 		const gridVerdict = gridCheck(tf.num, tf.den, k2, 1e-3, 1e3) ? 'pass' : 'fail';
 		const grid = timeIt(() => gridCheck(tf.num, tf.den, k2, 1e-3, 1e3), 100);
 		out.push({
@@ -152,7 +156,9 @@ async function measure(): Promise<Row[]> {
 			grid.toFixed(3),
 			(grid / cold).toFixed(1) + 'x',
 			`${certVerdict} (${certVerdict === 'fail' ? 'right' : 'WRONG'})`,
-			`${gridVerdict} (${gridVerdict === 'fail' ? 'right' : 'WRONG'})`
+			`${gridVerdict} (${gridVerdict === 'fail' ? 'right' : 'WRONG'})`,
+			passMs.toFixed(3),
+			`${passVerdict} (${passVerdict === 'pass' ? 'right' : 'WRONG'})`
 		]);
 	}
 	const head = [

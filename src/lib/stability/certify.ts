@@ -81,19 +81,26 @@ export function certifiedHurwitz(p: DPoly, forceExact = false): HurwitzResult {
 	return { hurwitz: isHurwitzExact(c).hurwitz, path: 'exact', roots, maxRealPart: maxRe };
 }
 
+/**
+ * True when some connected component of the inclusion disks lies wholly in the open right half-plane: by
+ * Smith's theorem a component of m disks holds exactly m roots, so at least one root is there.
+ */
 function someComponentInOpenRHP(disks: Disk[]): boolean {
-	const inRhp = disks.map((d) => d.c.re - d.r > 0);
-	for (let i = 0; i < disks.length; i++) {
-		if (!inRhp[i]) continue;
-		let isolated = true;
-		for (let j = 0; j < disks.length && isolated; j++) {
-			if (inRhp[j] || j === i) continue;
+	const n = disks.length;
+	const parent = disks.map((_, i) => i);
+	const find = (i: number): number => (parent[i] === i ? i : (parent[i] = find(parent[i])));
+	for (let i = 0; i < n; i++)
+		for (let j = i + 1; j < n; j++) {
 			const d = Math.hypot(disks[i].c.re - disks[j].c.re, disks[i].c.im - disks[j].c.im);
-			if (d <= disks[i].r + disks[j].r) isolated = false;
+			if (d <= (disks[i].r + disks[j].r) * (1 + 1e-12)) parent[find(i)] = find(j);
 		}
-		// The component of disk i consists only of open-RHP disks, so it holds at least one root there.
-		if (isolated) return true;
+	const allRhp = new Map<number, boolean>();
+	for (let i = 0; i < n; i++) {
+		const root = find(i);
+		const inRhp = disks[i].c.re - disks[i].r > 0;
+		allRhp.set(root, (allRhp.get(root) ?? true) && inRhp);
 	}
+	for (const v of allRhp.values()) if (v) return true;
 	return false;
 }
 
@@ -211,10 +218,7 @@ export function evenRealPartWithBounds(P: DPoly, Q: DPoly): { a: number[]; err: 
 		a[m] = m % 2 ? -s : s;
 		err[m] = ((L + 1) * u + 2.4 * u + 2 * u * u) * abs * (1 + 2 * (L + 1) * u) * 1.01 + 2 ** -1060;
 	}
-	while (a.length > 1 && a[a.length - 1] === 0 && err[err.length - 1] <= 2 ** -1060) {
-		a.pop();
-		err.pop();
-	}
+	// No trailing coefficient is dropped: an uncertain leading coefficient sends the caller to the exact path.
 	// true E = 2^-(sP + sQ) * (a +- err)
 	return { a, err, shift: sP + sQ };
 }
