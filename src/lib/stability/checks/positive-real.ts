@@ -9,6 +9,9 @@
 // origin, which are evaluated numerically (stated in the result).
 import {
 	type DPoly,
+	bitLength,
+	dyadicOf,
+	signAt,
 	countPositiveWithZero,
 	degree,
 	derivInt,
@@ -20,7 +23,7 @@ import {
 	primitive,
 	signB
 } from '../exact';
-import { certifiedHurwitz, certifiedPositiveOnHalfLine } from '../certify';
+import { EXACT_BUDGET, certifiedHurwitz, certifiedPositiveOnHalfLine } from '../certify';
 import { divC, evalJw, toFloat, toFloatCommon } from '../fpoly';
 import type { Plant } from '../model';
 import { derivR, minRatioOnHalfLine, positiveRealRoots } from '../roots';
@@ -91,6 +94,12 @@ export function runPositiveReal(plant: Plant): CheckResult {
 	else {
 		const pos = certifiedPositiveOnHalfLine(E, mn.x !== null ? [mn.x] : []);
 		numbers.positivityDecidedBy = pos.path;
+		// A frequency where Re G(jw) < 0 exactly (with D(jw) != 0 as D is Hurwitz) rules out PR as well.
+		if (!pos.positive && pos.witness !== undefined && signAt(E.c, dyadicOf(pos.witness)) < 0)
+			return done(
+				'neither',
+				`Re G(jw) is negative (shown exactly at ${fmt(Math.sqrt(pos.witness) * w0)} rad/s; minimum about ${fmt(mn.value)}).`
+			);
 		if (!pos.positive)
 			sprFailure =
 				mn.value < 0
@@ -99,6 +108,15 @@ export function runPositiveReal(plant: Plant): CheckResult {
 	}
 	if (sprFailure === null) return done('SPR', '');
 	// PR, on the reduced function (common factors of N and D cancelled: PR is a property of the function).
+	// The non-strict test needs gcds and square-free parts in exact arithmetic; beyond the work limit say so.
+	let size = 0;
+	for (const v of [...Ns.c, ...Ds.c]) size = Math.max(size, bitLength(v));
+	if (size * n > EXACT_BUDGET)
+		return done(
+			'neither',
+			`G is not strictly positive real (${sprFailure.charAt(0).toLowerCase()}${sprFailure.slice(1)}); whether it is positive real (non-strict) was not decided: the exact test is beyond its work limit for this model.`,
+			'inconclusive'
+		);
 	const g = gcdPoly(Ns.c, Ds.c);
 	let Nr = primitive(Ns.c);
 	let Dr = primitive(Ds.c);
