@@ -188,6 +188,17 @@ export function popovCore(plant: Plant): PopovCore {
 			argminX: null
 		};
 	const hw = certifiedHurwitz(plant.Ds);
+	if (hw.undecided)
+		return {
+			applicable: false,
+			reason: 'Whether the plant is Hurwitz could not be decided within the work limit of the exact test.',
+			hurwitz: false,
+			qScaled: NaN,
+			gBest: NaN,
+			threshold: NaN,
+			thresholdCertified: null,
+			argminX: null
+		};
 	if (!hw.hurwitz)
 		return {
 			applicable: true,

@@ -87,6 +87,12 @@ export function runPositiveReal(plant: Plant): CheckResult {
 	numbers.polesMaxRealPart = h.maxRealPart === null ? null : h.maxRealPart * w0;
 	const E = evenRealPart(Ns, Ds);
 	let sprFailure: string | null = null;
+	if (h.undecided)
+		return done(
+			'neither',
+			'whether G is Hurwitz could not be decided within the work limit of the exact test.',
+			'inconclusive'
+		);
 	if (!h.hurwitz) sprFailure = 'G is not Hurwitz (a pole on or right of the imaginary axis).';
 	else if (isZero(E)) sprFailure = 'Re G(jw) is identically zero (lossless).';
 	else if (degree(E) < n - 1 || (rd === 1 && degree(E) !== n - 1))
