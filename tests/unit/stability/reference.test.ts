@@ -24,7 +24,8 @@ describe('circle criterion, k1 = 0: largest sector from min Re G(jw)', () => {
 			const k2 = -1 / minRe;
 			expect(num(r.threshold)).toBeLessThanOrEqual(k2);
 			expect(num(r.threshold)).toBeGreaterThan(k2 * (1 - 1e-6));
-			expect(r.criticalFrequency).toBeCloseTo(Math.sqrt(xs), 8);
+			// A minimiser is fixed by function values only to about sqrt(machine epsilon).
+			expect(r.criticalFrequency).toBeCloseTo(Math.sqrt(xs), 6);
 			// The exact test brackets the supremum: fails just above it.
 			expect(num(r.numbers.thresholdFailAbove)).toBeGreaterThan(k2);
 			// Linear gain range: s^2 + (a+b)s + ab + k is Hurwitz iff k > -ab (Routh, second order).
@@ -38,7 +39,7 @@ describe('circle criterion, k1 = 0: largest sector from min Re G(jw)', () => {
 		const model: Model = { kind: 'tf', num: [1], den: [1, 3, 3, 1] };
 		const r = runCheck(model, { type: 'max-sector', lower: 0 });
 		expect(num(r.threshold)).toBeCloseTo(4, 7);
-		expect(r.criticalFrequency).toBeCloseTo(1, 8);
+		expect(r.criticalFrequency).toBeCloseTo(1, 6);
 		const iv = r.linearGainIntervals!;
 		expect(iv).toHaveLength(1);
 		expect(iv[0][0]).toBeCloseTo(-1, 10);

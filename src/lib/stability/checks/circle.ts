@@ -9,9 +9,9 @@
 // E(x) = Re[P(jw) Q(-jw)], x = w^2, so the frequency condition is E > 0 on [0, inf).
 import { type DPoly, addD, degree, dyadicOf, evenRealPart, isZero, scaleD } from '../exact';
 import { certifiedHurwitz, certifiedPositiveEven, type DecisionPath } from '../certify';
-import { addF, evenRealPartF, toFloat, toFloatCommon } from '../fpoly';
+import { addF, evalJw, evenRealPartF, toFloat, toFloatCommon } from '../fpoly';
 import type { Plant } from '../model';
-import { type C, minRatioFromCandidates, polyRoots, resonanceX } from '../roots';
+import { type C, minOverFrequency, minRatioFromCandidates, polyRoots, resonanceX } from '../roots';
 
 export interface CircleCore {
 	pass: boolean;
@@ -65,7 +65,21 @@ export function circleCore(
 	const [Pf, Qf] = toFloatCommon([P, Q]);
 	const cands = [...resonanceX(h.roots), ...(pos?.nearAxis ?? [])];
 	if (pos?.witness !== undefined) cands.push(pos.witness);
-	const mn = minRatioFromCandidates(evenRealPartF(Pf, Qf), evenRealPartF(Qf, Qf), cands, xRange(h.roots));
+	const reZ = (w: number) => {
+		const p = evalJw(Pf, w);
+		const q = evalJw(Qf, w);
+		return (p.re * q.re + p.im * q.im) / (q.re * q.re + q.im * q.im);
+	};
+	const [xl, xh] = xRange(h.roots);
+	const mw = minOverFrequency(
+		reZ,
+		cands.map((x) => Math.sqrt(x)),
+		[Math.sqrt(xl), Math.sqrt(xh)]
+	);
+	const degP = Pf.length - 1;
+	const lim = degP < n ? 0 : Pf[degP] / Qf[n];
+	const mn =
+		lim < mw.value ? { value: lim, x: null } : { value: mw.value, x: mw.w === null ? null : mw.w * mw.w };
 	const numeric = { minReZ: mn.value, argminX: mn.x };
 	if (topE === -1) return { pass: false, failure: 'lossless', ...base, ...numeric };
 	if (pos === null) return { pass: false, failure: 'infinity', ...base, ...numeric };
