@@ -2,7 +2,7 @@ import { spawn, spawnSync } from 'node:child_process';
 import { closeSync, openSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { closeTestDb, createUser, testDb } from '../factories';
+import { addMember, closeTestDb, createProject, createUser, testDb } from '../factories';
 import { env } from '../helpers/env';
 import { Client, signedIn } from '../helpers/http';
 import { expectMailTo } from '../helpers/mail';
@@ -47,6 +47,88 @@ describe('PostgreSQL restarted while the app serves', () => {
 		expect(status).toBe(200);
 		expect((await c.get('/api/v1/health')).status).toBe(200);
 	}, 120_000);
+});
+
+async function stopStandIns(): Promise<void> {
+	const pid = Number(readFileSync(join(env.testData, 'fakes.pid'), 'utf8'));
+	process.kill(-pid, 'SIGTERM');
+	for (let i = 0; i < 50; i++) {
+		try {
+			process.kill(pid, 0);
+			await sleep(100);
+		} catch {
+			return;
+		}
+	}
+}
+
+/** Bring the stand-ins back (same ports and folders), as scripts/test.sh started them. */
+async function startStandIns(): Promise<void> {
+	const log = openSync(join(env.testData, 'fakes.log'), 'a');
+	const child = spawn('node_modules/.bin/tsx', ['fakes/run.ts'], {
+		detached: true,
+		stdio: ['ignore', log, log],
+		env: process.env
+	});
+	closeSync(log);
+	writeFileSync(join(env.testData, 'fakes.pid'), String(child.pid));
+	child.unref();
+	const port = Number(process.env.FAKE_S3_PORT);
+	for (let i = 0; i < 100; i++) {
+		try {
+			await fetch(`http://127.0.0.1:${port}/`);
+			return;
+		} catch {
+			await sleep(100);
+		}
+	}
+}
+
+describe('object storage down', () => {
+	it('answers 503 with no row while the store is down, and uploads work again once it is back', async () => {
+		const u = await createUser();
+		const p = await createProject();
+		await addMember(u.id, p.id, 'engineer');
+		const c = await signedIn(u.email, u.password);
+		const created = await c.json(`/api/v1/projects/${p.key}/requirements`, 'POST', {
+			title: 'Rig',
+			statement: 'The loop shall remain absolutely stable for every gain in the sector [0, 2].',
+			level: 'loop',
+			assuranceLevel: 'C',
+			methods: ['test']
+		});
+		const requirementId = String((await created.json()).requirement.id);
+		const upload = () => {
+			const form = new FormData();
+			form.set('title', 'Rig log');
+			form.set('kind', 'log');
+			form.set('requirementIds', requirementId);
+			form.set('file', new Blob(['time,value\n0,1\n1,2\n'], { type: 'text/csv' }), 'log.csv');
+			return c.request(`/api/v1/projects/${p.key}/evidence`, {
+				method: 'POST',
+				body: form,
+				headers: { accept: 'application/json' }
+			});
+		};
+		const count = async () =>
+			Number((await testDb()('evidence_files').count<{ n: string }[]>('* as n'))[0].n);
+		const before = await count();
+		await stopStandIns();
+		try {
+			const down = await upload();
+			expect(down.status).toBe(503);
+			expect((await down.json()).error.message).toMatch(/evidence store is unavailable/i);
+			expect(await count()).toBe(before);
+			const health = await c.get('/api/v1/health');
+			expect(health.status).toBe(503);
+			expect((await health.json()).failing).toContain('storage');
+		} finally {
+			await startStandIns();
+		}
+		const up = await upload();
+		expect(up.status, await up.clone().text()).toBe(201);
+		expect(await count()).toBe(before + 1);
+	}, 90_000);
 });
 
 describe('mail relay down', () => {
