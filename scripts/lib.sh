@@ -51,8 +51,8 @@ kill_pidfile() {
 start_fakes() {
 	local pidfile=$1 log=$2
 	kill_pidfile "$pidfile"
-	setsid node_modules/.bin/tsx fakes/run.ts >"$log" 2>&1 &
-	echo $! >"$pidfile"
+	# From a subshell: stopping it later prints no job-control notice.
+	(setsid node_modules/.bin/tsx fakes/run.ts >"$log" 2>&1 & echo $! >"$pidfile")
 	for _ in $(seq 1 100); do
 		grep -q '\[fakes\] ready' "$log" 2>/dev/null && return 0
 		kill -0 "$(cat "$pidfile")" 2>/dev/null || break

@@ -69,12 +69,11 @@ start_fakes "$TEST_DATA/fakes.pid" "$TEST_DATA/fakes.log" || fail_setup "local s
 say "building the app"
 node_modules/.bin/svelte-kit sync >/dev/null
 LW_KIT_OUT_DIR="$TEST_DATA/kit" node_modules/.bin/vite build --logLevel error >"$TEST_DATA/build.log" 2>&1 || { cat "$TEST_DATA/build.log"; fail_setup "build"; }
-setsid node "$BUILD_DIR" >"$TEST_DATA/app.log" 2>&1 &
-echo $! >"$TEST_DATA/app.pid"
+# Started from a subshell, so that stopping them later prints no job-control notice.
+(setsid node "$BUILD_DIR" >"$TEST_DATA/app.log" 2>&1 & echo $! >"$TEST_DATA/app.pid")
 wait_port 127.0.0.1 "$PORT" 30 || { cat "$TEST_DATA/app.log"; fail_setup "app server"; }
 # The analysis worker beside the app, as npm start runs it.
-setsid node_modules/.bin/tsx scripts/worker.ts >"$TEST_DATA/worker.log" 2>&1 &
-echo $! >"$TEST_DATA/worker.pid"
+(setsid node_modules/.bin/tsx scripts/worker.ts >"$TEST_DATA/worker.log" 2>&1 & echo $! >"$TEST_DATA/worker.pid")
 
 static_pass=0
 static_fail=0
@@ -103,6 +102,8 @@ read -r vp vf < <(node -e '
 
 passed=$((vp + static_pass))
 failed=$((vf + static_fail))
+cleanup
 say "done in $(($(date +%s) - t0)) s"
+# The summary is the last line of the run.
 echo "$passed passed, $failed failed"
 [ "$failed" = 0 ]
