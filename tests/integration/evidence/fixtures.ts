@@ -1,5 +1,6 @@
 import { ListObjectsV2Command, S3Client } from '@aws-sdk/client-s3';
 import { createHash } from 'node:crypto';
+import { deflateSync } from 'node:zlib';
 import { testDb, unique } from '../../factories';
 import { Client } from '../../helpers/http';
 
@@ -128,4 +129,37 @@ export async function eventually(probe: () => Promise<boolean>, ms = 10_000): Pr
 		await new Promise((r) => setTimeout(r, 200));
 	}
 	return probe();
+}
+
+/** A valid 1x1 PNG (PNG specification, ISO/IEC 15948: signature, IHDR, IDAT, IEND with CRC-32). */
+export function tinyPng(): Buffer {
+	const crcTable = Array.from({ length: 256 }, (_, n) => {
+		let c = n;
+		for (let k = 0; k < 8; k++) c = c & 1 ? 0xedb88320 ^ (c >>> 1) : c >>> 1;
+		return c >>> 0;
+	});
+	const crc = (b: Buffer) => {
+		let c = 0xffffffff;
+		for (const x of b) c = crcTable[(c ^ x) & 0xff] ^ (c >>> 8);
+		return (c ^ 0xffffffff) >>> 0;
+	};
+	const chunk = (type: string, data: Buffer) => {
+		const len = Buffer.alloc(4);
+		len.writeUInt32BE(data.length);
+		const td = Buffer.concat([Buffer.from(type, 'ascii'), data]);
+		const c = Buffer.alloc(4);
+		c.writeUInt32BE(crc(td));
+		return Buffer.concat([len, td, c]);
+	};
+	const ihdr = Buffer.alloc(13);
+	ihdr.writeUInt32BE(1, 0);
+	ihdr.writeUInt32BE(1, 4);
+	ihdr[8] = 8; // bit depth
+	ihdr[9] = 2; // truecolour
+	return Buffer.concat([
+		Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]),
+		chunk('IHDR', ihdr),
+		chunk('IDAT', deflateSync(Buffer.from([0, 0xb7, 0x79, 0x1f]))),
+		chunk('IEND', Buffer.alloc(0))
+	]);
 }

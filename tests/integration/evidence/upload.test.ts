@@ -1,6 +1,5 @@
 import { spawn, type ChildProcess } from 'node:child_process';
 import { request as httpRequest } from 'node:http';
-import { deflateSync } from 'node:zlib';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { closeTestDb, createTeam, testDb, unique } from '../../factories';
 import { env } from '../../helpers/env';
@@ -13,7 +12,8 @@ import {
 	objectsUnder,
 	postForm,
 	sha256,
-	textOfSize
+	textOfSize,
+	tinyPng
 } from './fixtures';
 
 // Evidence upload against the running app and the object-storage stand-in. The app runs with
@@ -22,39 +22,6 @@ import {
 // test, from the bytes sent (FIPS 180-4 through node:crypto), never taken from the app.
 
 const LIMIT = Number(process.env.EVIDENCE_MAX_BYTES);
-
-/** A valid 1x1 PNG (PNG specification, ISO/IEC 15948: signature, IHDR, IDAT, IEND with CRC-32). */
-function tinyPng(): Buffer {
-	const crcTable = Array.from({ length: 256 }, (_, n) => {
-		let c = n;
-		for (let k = 0; k < 8; k++) c = c & 1 ? 0xedb88320 ^ (c >>> 1) : c >>> 1;
-		return c >>> 0;
-	});
-	const crc = (b: Buffer) => {
-		let c = 0xffffffff;
-		for (const x of b) c = crcTable[(c ^ x) & 0xff] ^ (c >>> 8);
-		return (c ^ 0xffffffff) >>> 0;
-	};
-	const chunk = (type: string, data: Buffer) => {
-		const len = Buffer.alloc(4);
-		len.writeUInt32BE(data.length);
-		const td = Buffer.concat([Buffer.from(type, 'ascii'), data]);
-		const c = Buffer.alloc(4);
-		c.writeUInt32BE(crc(td));
-		return Buffer.concat([len, td, c]);
-	};
-	const ihdr = Buffer.alloc(13);
-	ihdr.writeUInt32BE(1, 0);
-	ihdr.writeUInt32BE(1, 4);
-	ihdr[8] = 8; // bit depth
-	ihdr[9] = 2; // truecolour
-	return Buffer.concat([
-		Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]),
-		chunk('IHDR', ihdr),
-		chunk('IDAT', deflateSync(Buffer.from([0, 0xb7, 0x79, 0x1f]))),
-		chunk('IEND', Buffer.alloc(0))
-	]);
-}
 
 let team: Awaited<ReturnType<typeof createTeam>>;
 let engineer: Client;

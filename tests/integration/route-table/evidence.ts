@@ -1,5 +1,5 @@
-import { deflateSync } from 'node:zlib';
 import { signedIn } from '../../helpers/http';
+import { tinyPng } from '../evidence/fixtures';
 import type { PrepareContext } from '../authorization.test';
 import { membersOnly, rolesOnly, type RouteCase } from './types';
 
@@ -105,39 +105,6 @@ export const cases: RouteCase[] = [
 	}
 ];
 
-/** A 1x1 PNG (ISO/IEC 15948 layout), so the inline view has something to show. */
-function png(): Buffer {
-	const table = Array.from({ length: 256 }, (_, n) => {
-		let c = n;
-		for (let k = 0; k < 8; k++) c = c & 1 ? 0xedb88320 ^ (c >>> 1) : c >>> 1;
-		return c >>> 0;
-	});
-	const crc = (b: Buffer) => {
-		let c = 0xffffffff;
-		for (const x of b) c = table[(c ^ x) & 0xff] ^ (c >>> 8);
-		return (c ^ 0xffffffff) >>> 0;
-	};
-	const chunk = (type: string, data: Buffer) => {
-		const len = Buffer.alloc(4);
-		len.writeUInt32BE(data.length);
-		const td = Buffer.concat([Buffer.from(type, 'ascii'), data]);
-		const c = Buffer.alloc(4);
-		c.writeUInt32BE(crc(td));
-		return Buffer.concat([len, td, c]);
-	};
-	const ihdr = Buffer.alloc(13);
-	ihdr.writeUInt32BE(1, 0);
-	ihdr.writeUInt32BE(1, 4);
-	ihdr[8] = 8;
-	ihdr[9] = 2;
-	return Buffer.concat([
-		Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]),
-		chunk('IHDR', ihdr),
-		chunk('IDAT', deflateSync(Buffer.from([0, 0, 0, 0]))),
-		chunk('IEND', Buffer.alloc(0))
-	]);
-}
-
 /** One piece of evidence (an image) in the team project, uploaded through the API by the engineer. */
 export async function prepare(ctx: PrepareContext): Promise<Record<string, string>> {
 	const { testDb } = await import('../../factories');
@@ -154,7 +121,7 @@ export async function prepare(ctx: PrepareContext): Promise<Record<string, strin
 	fd.set('title', 'Route table image');
 	fd.set('kind', 'other');
 	fd.set('requirementIds', String(r.id));
-	fd.set('file', new Blob([new Uint8Array(png())], { type: 'image/png' }), 'route-table.png');
+	fd.set('file', new Blob([new Uint8Array(tinyPng())], { type: 'image/png' }), 'route-table.png');
 	const res = await engineer.request(`/api/v1/projects/${ctx.projectKey}/evidence`, {
 		method: 'POST',
 		body: fd
