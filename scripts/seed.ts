@@ -12,4 +12,7 @@ try {
 } catch (e) {
 	console.warn(`[seed] demo evidence skipped: ${(e as Error).message}`);
 }
+// Fresh rows have no planner statistics until autovacuum gets round to them (small tables: never), and
+// the trace-matrix query plans badly without them. PostgreSQL's advice after a bulk load: ANALYZE.
+await db().raw('analyze');
 await closeDb();

@@ -52,7 +52,7 @@ if [ -f scripts/worker.ts ]; then
 	echo $! >.data/worker.pid
 fi
 
-node build &
+node scripts/serve.js &
 app=$!
 wait_port "$HOST" "$PORT" 30 || { say "the app did not start"; exit 1; }
 cat <<TXT

@@ -70,7 +70,7 @@ say "building the app"
 node_modules/.bin/svelte-kit sync >/dev/null
 LW_KIT_OUT_DIR="$TEST_DATA/kit" node_modules/.bin/vite build --logLevel error >"$TEST_DATA/build.log" 2>&1 || { cat "$TEST_DATA/build.log"; fail_setup "build"; }
 # Started from a subshell, so that stopping them later prints no job-control notice.
-(setsid node "$BUILD_DIR" >"$TEST_DATA/app.log" 2>&1 & echo $! >"$TEST_DATA/app.pid")
+(setsid node scripts/serve.js >"$TEST_DATA/app.log" 2>&1 & echo $! >"$TEST_DATA/app.pid")
 wait_port 127.0.0.1 "$PORT" 30 || { cat "$TEST_DATA/app.log"; fail_setup "app server"; }
 # The analysis worker beside the app, as npm start runs it.
 (setsid node_modules/.bin/tsx scripts/worker.ts >"$TEST_DATA/worker.log" 2>&1 & echo $! >"$TEST_DATA/worker.pid")

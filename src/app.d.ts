@@ -1,5 +1,6 @@
 import type { UserRow } from '$lib/server/identity/repo';
 import type { Role } from '$lib/server/identity/roles';
+import type { MemberOf } from '$lib/server/identity/service';
 
 declare global {
 	namespace App {
@@ -10,6 +11,8 @@ declare global {
 		}
 		interface Locals {
 			user: UserRow | null;
+			/** A session user's projects and roles, read with the user (null for API tokens). */
+			memberships: MemberOf[] | null;
 			/** Set when the request authenticated with a personal API token. */
 			apiToken: { id: number; projectId: number; role: Role } | null;
 			requestId: string;

@@ -1,8 +1,9 @@
 import { randomUUID } from 'node:crypto';
 import type { Handle, HandleServerError } from '@sveltejs/kit';
 import { sequence } from '@sveltejs/kit/hooks';
-import { authHandle, userFromSession } from '$lib/server/auth';
-import { isDatabaseUnavailable } from '$lib/server/db';
+import { authHandle, identityFromSession } from '$lib/server/auth';
+import { closeDb, isDatabaseUnavailable } from '$lib/server/db';
+import { stopBoss } from '$lib/server/jobs/boss';
 import { startMailLoop } from '$lib/server/mail';
 // Registers the job queue's health check.
 import '$lib/server/jobs/health';
@@ -11,9 +12,16 @@ import { userFromApiToken } from '$lib/server/tokens-auth';
 
 startMailLoop();
 
+// adapter-node emits this after SIGINT/SIGTERM once the server stopped accepting requests: release
+// the database pool and the queue's connections so that the process exits.
+process.once('sveltekit:shutdown', () => {
+	Promise.allSettled([stopBoss(), closeDb()]).finally(() => process.exit(0));
+});
+
 const identify: Handle = async ({ event, resolve }) => {
 	event.locals.requestId = randomUUID();
 	event.locals.user = null;
+	event.locals.memberships = null;
 	event.locals.apiToken = null;
 	try {
 		const bearer = event.request.headers.get('authorization');
@@ -24,7 +32,11 @@ const identify: Handle = async ({ event, resolve }) => {
 				event.locals.apiToken = found.token;
 			}
 		} else {
-			event.locals.user = await userFromSession(event);
+			const found = await identityFromSession(event);
+			if (found) {
+				event.locals.user = found.user;
+				event.locals.memberships = found.memberships;
+			}
 		}
 	} catch (e) {
 		if (!isDatabaseUnavailable(e)) throw e;

@@ -9,7 +9,9 @@ export const load = (async ({ locals }) => {
 	return {
 		user: user ? { id: user.id, email: user.email, name: user.display_name, admin: user.site_admin } : null,
 		projects: user
-			? (await listProjectsFor(user)).map((p) => ({ key: p.key, name: p.name, role: p.role }))
+			? (user.site_admin || !locals.memberships ? await listProjectsFor(user) : locals.memberships).map(
+					(p) => ({ key: p.key, name: p.name, role: p.role })
+				)
 			: [],
 		demoMode: config.demoMode
 	};

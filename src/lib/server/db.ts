@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto';
 import knexFactory, { type Knex } from 'knex';
 import pg from 'pg';
 import { config } from './config';
@@ -6,14 +7,65 @@ import { config } from './config';
 pg.types.setTypeParser(20, (v) => Number(v));
 // numeric (1700) stays a string: exact values are kept exact.
 
+// Statements that recur are sent as named prepared statements, so that PostgreSQL parses and plans
+// them once per connection (and settles on a generic plan after a few runs) instead of on every
+// request: planning the trace-matrix query costs more than running it, and most requests are a handful
+// of small queries whose planning dominates. The same policy as pgjdbc's prepareThreshold: a text is
+// prepared from its third use; each connection keeps at most PREPARED_PER_CONNECTION of them (beyond
+// that, statements run unnamed as before). Only parameterised statements (extended protocol, one
+// command) are eligible.
+const PREPARE_THRESHOLD = 3;
+const PREPARED_PER_CONNECTION = 256;
+const uses = new Map<string, number>();
+
+function statementName(text: string): string | undefined {
+	const key = createHash('sha1').update(text).digest('base64url').slice(0, 22);
+	const n = (uses.get(key) ?? 0) + 1;
+	if (uses.size >= 5_000) uses.clear();
+	uses.set(key, n);
+	return n >= PREPARE_THRESHOLD ? `lw_${key}` : undefined;
+}
+
+function autoPrepare(conn: pg.Client): void {
+	const named = new Set<string>();
+	const query = conn.query.bind(conn) as (...args: unknown[]) => unknown;
+	(conn as { query: unknown }).query = (config: unknown, ...rest: unknown[]) => {
+		const c = config as { text?: unknown; values?: unknown; name?: unknown } | null;
+		if (
+			c &&
+			Object.getPrototypeOf(c) === Object.prototype && // not a Submittable (cursor, stream)
+			typeof c.text === 'string' &&
+			c.name === undefined &&
+			Array.isArray(c.values) &&
+			c.values.length > 0
+		) {
+			const name = statementName(c.text);
+			if (name && (named.has(name) || named.size < PREPARED_PER_CONNECTION)) {
+				named.add(name);
+				return query({ ...c, name }, ...rest);
+			}
+		}
+		return query(config, ...rest);
+	};
+}
+
 let instance: Knex | undefined;
 
 /** The one Knex instance of the process. */
 export function db(): Knex {
 	instance ??= knexFactory({
 		client: 'pg',
-		connection: config.databaseUrl,
-		pool: { min: 0, max: 10 },
+		// JIT compilation is for long analytical queries; ours are short, and the planner's row
+		// estimates for the grouped trace-matrix sub-queries would switch it on for nothing.
+		connection: { connectionString: config.databaseUrl, options: '-c jit=off' },
+		pool: {
+			min: 0,
+			max: Number(process.env.DB_POOL_MAX ?? 10),
+			afterCreate: (conn: pg.Client, done: (err: Error | null, conn: pg.Client) => void) => {
+				autoPrepare(conn);
+				done(null, conn);
+			}
+		},
 		acquireConnectionTimeout: 5_000
 	});
 	return instance;

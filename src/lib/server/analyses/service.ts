@@ -64,9 +64,12 @@ export interface RequirementAnalyses {
 	pending: number;
 }
 
-export async function requirementAnalyses(requirementId: number): Promise<RequirementAnalyses> {
+export async function requirementAnalyses(
+	requirementId: number,
+	projectKey?: string
+): Promise<RequirementAnalyses> {
 	const [project, rows, states, spec] = await Promise.all([
-		requirementProject(db(), requirementId),
+		projectKey ? { project_key: projectKey } : requirementProject(db(), requirementId),
 		runs.forRequirement(db(), requirementId),
 		analysisStates(db(), [requirementId]),
 		currentSpec(db(), requirementId)

@@ -74,6 +74,36 @@ export function consumePrecheck(nonce: string | null): number | undefined {
 	return hit && hit.expires > Date.now() ? hit.userId : undefined;
 }
 
+/** A project the user belongs to, with the role, as read with the user at the start of a request. */
+export interface MemberOf {
+	id: number;
+	key: string;
+	name: string;
+	description: string;
+	role: Role;
+}
+
+/**
+ * The active user and the projects they belong to, in one round trip (every request needs both:
+ * the access check and the project switcher).
+ */
+export async function activeIdentity(
+	id: number
+): Promise<{ user: UserRow; memberships: MemberOf[] } | undefined> {
+	const { rows } = await db().raw(
+		`select u.*, coalesce((
+		   select json_agg(json_build_object('id', p.id, 'key', p.key, 'name', p.name,
+		            'description', p.description, 'role', m.role) order by p.key)
+		     from memberships m join projects p on p.id = m.project_id
+		    where m.user_id = u.id), '[]'::json) as memberships
+		   from users u where u.id = ? and not u.disabled`,
+		[id]
+	);
+	if (!rows.length) return undefined;
+	const { memberships, ...user } = rows[0];
+	return { user: user as UserRow, memberships: memberships as MemberOf[] };
+}
+
 export async function activeUser(id: number): Promise<UserRow | undefined> {
 	const u = await users.byId(db(), id);
 	return u && !u.disabled ? u : undefined;

@@ -229,6 +229,17 @@ function specView(
 
 /** One requirement with its current revision, specification and links (null when missing). */
 export async function getRequirement(id: number) {
+	return (await requirementAndSpecs(id))?.detail ?? null;
+}
+
+/** A requirement's page: the detail and its history (the specification versions read once for both). */
+export async function requirementPage(id: number) {
+	const found = await requirementAndSpecs(id);
+	if (!found) return null;
+	return { requirement: found.detail, history: await requirementHistory(id, found.specList) };
+}
+
+async function requirementAndSpecs(id: number) {
 	const v = await requirements.view(db(), id);
 	if (!v) return null;
 	const [states, around, specList] = await Promise.all([
@@ -237,7 +248,7 @@ export async function getRequirement(id: number) {
 		specs.all(db(), id)
 	]);
 	const current = specList.find((s) => Number(s.id) === Number(v.current_spec_id));
-	return {
+	const detail = {
 		...summary(v, states.get(id)),
 		projectId: Number(v.project_id),
 		rationale: v.rationale,
@@ -274,13 +285,15 @@ export async function getRequirement(id: number) {
 				ownRevision: l.parent_revision
 			}))
 	};
+	return { detail, specList };
 }
 export type RequirementDetail = NonNullable<Awaited<ReturnType<typeof getRequirement>>>;
+type SpecRows = Awaited<ReturnType<typeof specs.all>>;
 
-export async function requirementHistory(id: number) {
+export async function requirementHistory(id: number, knownSpecs?: SpecRows) {
 	const [revs, specList, events] = await Promise.all([
 		revisions.all(db(), id),
-		specs.all(db(), id),
+		knownSpecs ?? specs.all(db(), id),
 		historyOf(db(), 'requirement', id)
 	]);
 	return {

@@ -242,11 +242,11 @@ export async function matrix(
 		b.limit = limit;
 		b.offset = offset;
 	}
-	// The planner over-estimates the joined rows by orders of magnitude (grouped sub-queries joined by
-	// requirement), which switches on JIT compilation: seconds of compiling for a query that runs in
-	// tens of milliseconds. Off for this query, with room for its sorts in memory.
+	// A page is one statement (prepared by the pool, see db.ts); the whole matrix (exports, baselines)
+	// gets room for its sorts in memory, in its own transaction.
+	if (limit !== null) return (await db.raw(sql, b as never)).rows as MatrixDbRow[];
 	const run = async (trx: Db) => {
-		await trx.raw("set local jit = off; set local work_mem = '32MB'");
+		await trx.raw("set local work_mem = '32MB'");
 		return (await trx.raw(sql, b as never)).rows as MatrixDbRow[];
 	};
 	return (db as { isTransaction?: boolean }).isTransaction ? run(db) : (db as Knex).transaction(run);

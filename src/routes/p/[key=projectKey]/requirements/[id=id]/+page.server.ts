@@ -15,7 +15,7 @@ import {
 	getRequirement,
 	modelsForSpecs,
 	removeLink,
-	requirementHistory,
+	requirementPage,
 	requirementOptions,
 	setSpecification
 } from '$lib/server/requirements/service';
@@ -39,16 +39,20 @@ function failWith(action: string, e: unknown, extra: Record<string, unknown> = {
 
 export const load = (async (event) => {
 	const { project, role, user } = await requireRole(event, event.params.key);
-	const r = await requirementOf(project.id, event.params.id);
-	const [history, options, models] = await Promise.all([
-		requirementHistory(r.id),
-		requirementOptions(project.id),
-		modelsForSpecs(project.id)
+	const canWrite = role === 'engineer' || role === 'admin' || user.site_admin;
+	// The link and specification forms (and so their choices) are shown to writers only.
+	const [found, options, models] = await Promise.all([
+		requirementPage(Number(event.params.id)),
+		canWrite ? requirementOptions(project.id) : [],
+		canWrite ? modelsForSpecs(project.id) : []
 	]);
+	if (!found || found.requirement.projectId !== project.id)
+		error(404, { message: 'There is no such requirement in this project.' });
+	const { requirement: r, history } = found;
 	const linked = new Set([r.id, ...r.parents.map((p) => p.id)]);
 	return {
 		project: { key: project.key, name: project.name },
-		canWrite: role === 'engineer' || role === 'admin' || user.site_admin,
+		canWrite,
 		requirement: r,
 		history,
 		parentOptions: options

@@ -7,6 +7,6 @@ import type { RequestHandler } from './$types';
 // A requirement's analysis state and run history (newest first); the newest finished run with its curves.
 export const GET = endpoint(async (event) => {
 	const id = Number(event.params.id);
-	await requireRole(event, await projectKeyOfRequirement(id));
-	return json(await requirementAnalyses(id), { headers: { 'cache-control': 'no-store' } });
+	const { project } = await requireRole(event, await projectKeyOfRequirement(id));
+	return json(await requirementAnalyses(id, project.key), { headers: { 'cache-control': 'no-store' } });
 }) satisfies RequestHandler;
