@@ -26,7 +26,11 @@ const identify: Handle = async ({ event, resolve }) => {
 	try {
 		const bearer = event.request.headers.get('authorization');
 		if (bearer?.toLowerCase().startsWith('bearer ') && event.url.pathname.startsWith('/api/')) {
-			const found = await userFromApiToken(bearer.slice(7).trim());
+			const found = await userFromApiToken(bearer.slice(7).trim(), {
+				method: event.request.method,
+				path: event.url.pathname,
+				requestId: event.locals.requestId
+			});
 			if (found) {
 				event.locals.user = found.user;
 				event.locals.apiToken = found.token;

@@ -68,6 +68,41 @@ describe('personal API tokens', () => {
 		expect((await api.get(`/api/v1/projects/${p.key}`, auth)).status).toBe(401);
 	});
 
+	it('their use is audited: the first request of each window, with the request and the token as actor', async () => {
+		const u = await createUser();
+		const p = await createProject();
+		await addMember(u.id, p.id, 'viewer');
+		const c = await signedIn(u.email, u.password);
+		const token = await newToken(c, p.key, 'viewer', 'audit-use');
+		const stored = await testDb()('api_tokens').where({ user_id: u.id, label: 'audit-use' }).first();
+		const api = new Client();
+		const auth = { authorization: `Bearer ${token}`, accept: 'application/json' };
+		const uses = () =>
+			testDb()('audit_events')
+				.where({ action: 'api-token.use', subject_id: String(stored.id) })
+				.orderBy('seq');
+		const first = await api.get(`/api/v1/projects/${p.key}`, auth);
+		expect(first.status).toBe(200);
+		await api.get(`/api/v1/projects/${p.key}/requirements`, auth);
+		let events = await uses();
+		expect(events).toHaveLength(1);
+		expect(events[0]).toMatchObject({
+			actor_user_id: u.id,
+			actor_token_id: stored.id,
+			project_id: p.id,
+			request_id: first.headers.get('x-request-id')
+		});
+		expect(events[0].after).toEqual({ method: 'GET', path: `/api/v1/projects/${p.key}` });
+		// Once the window has passed (moved back here, not waited for) the next use is recorded again.
+		await testDb()('api_tokens')
+			.where({ id: stored.id })
+			.update({ use_audited_at: testDb().raw(`now() - interval '16 minutes'`) });
+		await api.get(`/api/v1/projects/${p.key}/requirements`, auth);
+		events = await uses();
+		expect(events).toHaveLength(2);
+		expect(events[1].after).toEqual({ method: 'GET', path: `/api/v1/projects/${p.key}/requirements` });
+	});
+
 	it('an unknown or malformed bearer token is 401 JSON', async () => {
 		const p = await createProject();
 		for (const t of ['lw_nope', '', 'x'.repeat(500)]) {

@@ -78,9 +78,18 @@ export function eventHash(prevHash: string, e: Omit<StoredEvent, 'seq' | 'hash' 
 		.digest('hex');
 }
 
+/**
+ * Take the chain's lock now (held to the end of the transaction; recordEvent takes it again for free).
+ * A transaction that locks rows before it records an event calls this first, so that it cannot wait
+ * for the chain while holding rows that a chain holder (a publish queuing runs) waits for.
+ */
+export async function lockChain(trx: Db): Promise<void> {
+	await trx.raw('select pg_advisory_xact_lock(?)', [CHAIN_LOCK]);
+}
+
 /** Append one event in the caller's transaction. */
 export async function recordEvent(trx: Db, actor: Actor, event: AuditEvent): Promise<void> {
-	await trx.raw('select pg_advisory_xact_lock(?)', [CHAIN_LOCK]);
+	await lockChain(trx);
 	const last = await trx('audit_events').orderBy('seq', 'desc').first('hash');
 	const prev = last?.hash ?? GENESIS;
 	// Millisecond precision, so the stored value and the hashed value agree exactly.

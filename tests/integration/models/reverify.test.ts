@@ -161,6 +161,28 @@ describe('publishing a model version', () => {
 		expect(rp.verdict).toBe('pass');
 		expect(rf.verdict).toBe('fail');
 		expect(rf.result.criticalFrequency).toBeCloseTo(1, 3);
+		// Each verdict is in the audit trail, filed under its requirement, with the inputs that gave it.
+		for (const [reqId, run, verdict] of [
+			[pass, rp, 'pass'],
+			[fail, rf, 'fail']
+		] as const) {
+			const ev = await testDb()('audit_events')
+				.where({ action: 'analysis.verdict', subject_type: 'requirement', subject_id: String(reqId) })
+				.orderBy('seq', 'desc')
+				.first();
+			expect(ev.actor_label).toMatch(/^worker /);
+			expect(ev.project_id).toBe(team.project.id);
+			expect(ev.after).toMatchObject({
+				run: run.id,
+				status: 'done',
+				verdict,
+				worstPoint: 'nominal',
+				outputHash: run.output_hash,
+				modelVersionId: body.id,
+				modelHash: body.contentHash,
+				engineVersion: run.engine_version
+			});
+		}
 		// The curve passes through G(j) = 1/(1+j)^3 = (-1 - j)/4.
 		const near1 = (rf.curves.points[0].nyquist as [number, number, number][]).reduce((a, b) =>
 			Math.abs(b[0] - 1) < Math.abs(a[0] - 1) ? b : a
@@ -311,6 +333,11 @@ describe('publishing a model version', () => {
 		expect(run.status).toBe('error');
 		expect(run.error).toMatch(/cruise/);
 		expect((await analysisStates(testDb(), [req.id])).get(req.id)?.state).toBe('error');
+		const ev = await testDb()('audit_events')
+			.where({ action: 'analysis.error', subject_id: String(req.id) })
+			.first();
+		expect(ev.after).toMatchObject({ run: run.id, status: 'error', verdict: null });
+		expect(ev.after.error).toMatch(/cruise/);
 	});
 });
 

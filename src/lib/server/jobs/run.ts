@@ -1,6 +1,8 @@
 import type { Knex } from 'knex';
 import { ModelInputError } from '../../stability/index';
+import { lockChain, recordEvent, type Actor } from '../audit';
 import { computeRun } from '../analyses/compute';
+import type { RunRow } from '../analyses/repo';
 import { db } from '../db';
 import { kickMail } from '../mail';
 import { afterRunFinished } from './notices';
@@ -25,6 +27,69 @@ function holdMs(): number {
  */
 async function relaxed(trx: Knex.Transaction) {
 	await trx.raw('set local synchronous_commit = off');
+}
+
+const FINISHED_COLUMNS: (keyof FinishedRow)[] = [
+	'id',
+	'trigger_ref',
+	'project_id',
+	'requirement_id',
+	'requirement_revision',
+	'spec_id',
+	'model_version_id',
+	'model_hash',
+	'engine_version',
+	'status',
+	'verdict',
+	'worst_point',
+	'output_hash',
+	'error',
+	'duration_ms'
+];
+
+type FinishedRow = Pick<
+	RunRow,
+	| 'id'
+	| 'trigger_ref'
+	| 'project_id'
+	| 'requirement_id'
+	| 'requirement_revision'
+	| 'spec_id'
+	| 'model_version_id'
+	| 'model_hash'
+	| 'engine_version'
+	| 'status'
+	| 'verdict'
+	| 'worst_point'
+	| 'output_hash'
+	| 'error'
+	| 'duration_ms'
+>;
+
+/**
+ * The verdict goes into the audit trail in the transaction that stores it, filed under the requirement
+ * (its page shows it in the history) with the inputs that produced it.
+ */
+async function recordRunFinished(trx: Knex.Transaction, actor: Actor, r: FinishedRow): Promise<void> {
+	await recordEvent(trx, actor, {
+		projectId: Number(r.project_id),
+		action: r.status === 'done' ? 'analysis.verdict' : 'analysis.error',
+		subjectType: 'requirement',
+		subjectId: Number(r.requirement_id),
+		after: {
+			run: Number(r.id),
+			status: r.status,
+			verdict: r.verdict,
+			worstPoint: r.worst_point,
+			outputHash: r.output_hash,
+			error: r.error,
+			requirementRevision: Number(r.requirement_revision),
+			specId: Number(r.spec_id),
+			modelVersionId: Number(r.model_version_id),
+			modelHash: r.model_hash,
+			engineVersion: r.engine_version
+		}
+	});
 }
 
 export interface RunJob {
@@ -60,8 +125,11 @@ export async function processRuns(
 	};
 	const ids = [...jobOf.keys()];
 
+	const actor: Actor = { label: `worker ${workerLabel}` };
 	const claim = await db().transaction(async (trx) => {
 		await relaxed(trx);
+		// Runs whose attempts are used up are finished here, with an audit event: the chain first.
+		await lockChain(trx);
 		const rows: { id: number; status: string; attempts: number }[] = await trx('analysis_runs')
 			.whereIn('id', ids)
 			.forUpdate()
@@ -87,8 +155,11 @@ export async function processRuns(
 					),
 					finished_at: trx.fn.now()
 				})
-				.returning(['id', 'trigger_ref']);
-			for (const d of done) mails += await afterRunFinished(trx, d);
+				.returning(FINISHED_COLUMNS);
+			for (const d of done) {
+				await recordRunFinished(trx, actor, d);
+				mails += await afterRunFinished(trx, d);
+			}
 		}
 		await complete(trx, [...settled, ...exhausted]);
 		for (const id of settled) out.set(id, 'skipped');
@@ -143,13 +214,15 @@ export async function processRuns(
 		const duration = Math.round(performance.now() - t0);
 		const mails = await db().transaction(async (trx) => {
 			await relaxed(trx);
+			await lockChain(trx);
 			await complete(trx, [runId]);
 			const [finished] = await trx('analysis_runs')
 				.where({ id: runId, status: 'running' })
 				.update({ ...update, finished_at: trx.fn.now(), duration_ms: duration })
-				.returning(['id', 'trigger_ref']);
+				.returning(FINISHED_COLUMNS);
 			// Another attempt finished first: keep its result.
 			if (!finished) return 0;
+			await recordRunFinished(trx, actor, finished);
 			return afterRunFinished(trx, finished);
 		});
 		if (mails) kickMail();
