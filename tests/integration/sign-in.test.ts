@@ -1,3 +1,4 @@
+import { encode } from '@auth/core/jwt';
 import { afterAll, describe, expect, it } from 'vitest';
 import { addMember, closeTestDb, createProject, createUser, testDb, unique } from '../factories';
 import { Client, signedIn } from '../helpers/http';
@@ -98,6 +99,25 @@ describe('sign-in', () => {
 		const c = await signedIn(u.email, u.password);
 		await c.postForm('/signout', {});
 		expect((await c.get('/account')).status).toBe(303);
+	});
+
+	it('a session cookie that was altered, or sealed with another secret, is no session', async () => {
+		const u = await createUser();
+		const c = await signedIn(u.email, u.password);
+		const name = [...c.cookies.keys()].find((k) => k.endsWith('authjs.session-token'))!;
+		const good = c.cookies.get(name)!;
+		expect((await c.get('/account')).status).toBe(200);
+		// One character of the ciphertext changed: the authentication tag no longer matches.
+		const i = Math.floor(good.length / 2);
+		c.cookies.set(name, good.slice(0, i) + (good[i] === 'A' ? 'B' : 'A') + good.slice(i + 1));
+		expect((await c.get('/account')).status).toBe(303);
+		// A well-formed token for the same user id, sealed with a secret the app does not have.
+		const forged = await encode({ token: { sub: String(u.id) }, secret: 'not-the-app-secret', salt: name });
+		c.cookies.set(name, forged);
+		expect((await c.get('/account')).status).toBe(303);
+		// The genuine cookie still works (a refused one is not remembered as valid, nor the reverse).
+		c.cookies.set(name, good);
+		expect((await c.get('/account')).status).toBe(200);
 	});
 });
 
