@@ -16,6 +16,8 @@ declare global {
 			/** Set when the request authenticated with a personal API token. */
 			apiToken: { id: number; projectId: number; role: Role } | null;
 			requestId: string;
+			/** Set by handleError when a load or action failed because PostgreSQL is unreachable. */
+			databaseUnavailable: boolean;
 		}
 		// interface PageData {}
 		// interface PageState {}

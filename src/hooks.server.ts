@@ -22,6 +22,7 @@ const identify: Handle = async ({ event, resolve }) => {
 	event.locals.requestId = randomUUID();
 	event.locals.user = null;
 	event.locals.memberships = null;
+	event.locals.databaseUnavailable = false;
 	event.locals.apiToken = null;
 	try {
 		const bearer = event.request.headers.get('authorization');
@@ -66,7 +67,15 @@ const identify: Handle = async ({ event, resolve }) => {
 				: 'page';
 		return withHeaders(refusal(problem, kind), event.locals.requestId);
 	}
-	return withHeaders(await resolve(event), event.locals.requestId);
+	const response = await resolve(event);
+	// A load or action that failed because PostgreSQL is down (handleError flagged it) is a 503 with a
+	// retry hint, not a 500; the body (the error page or the action's error result) stays as rendered.
+	if (event.locals.databaseUnavailable && response.status === 500) {
+		const headers = new Headers(response.headers);
+		headers.set('retry-after', '5');
+		return withHeaders(new Response(response.body, { status: 503, headers }), event.locals.requestId);
+	}
+	return withHeaders(response, event.locals.requestId);
 };
 
 function withHeaders(response: Response, requestId: string): Response {
@@ -95,6 +104,7 @@ export const handle = sequence(authHandle, identify);
 export const handleError: HandleServerError = ({ error, event, status, message }) => {
 	const errorId = event.locals.requestId ?? randomUUID();
 	if (isDatabaseUnavailable(error)) {
+		event.locals.databaseUnavailable = true;
 		return { message: 'The database is unavailable right now. Try again shortly.', errorId };
 	}
 	if (status !== 404)

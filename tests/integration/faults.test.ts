@@ -35,6 +35,13 @@ describe('PostgreSQL restarted while the app serves', () => {
 			const api = await c.get('/api/v1/projects/NOPE', { accept: 'application/json' });
 			expect(api.status).toBe(503);
 			expect((await api.json()).error.message).toMatch(/database is unavailable/i);
+			// Signed out, the request gets as far as the form action before it needs the database.
+			const form = await new Client().action('/signin', { email: u.email, password: u.password });
+			expect(form.httpStatus).toBe(503);
+			expect(form.type).toBe('error');
+			expect(form.error?.message).toMatch(/database is unavailable/i);
+			const anonymousPage = await new Client().get('/signin?redirectTo=%2F', { accept: 'text/html' });
+			expect(anonymousPage.status).toBeLessThan(500);
 		} finally {
 			expect(db('start').status).toBe(0);
 		}
