@@ -19,6 +19,11 @@ export S3_BUCKET="${S3_BUCKET:-loopwarden-evidence}"
 # Evidence uploads are streamed and limited by the app itself (EVIDENCE_MAX_BYTES, default 200 MiB).
 export BODY_SIZE_LIMIT="${BODY_SIZE_LIMIT:-Infinity}"
 
+if (exec 3<>"/dev/tcp/$HOST/$PORT") 2>/dev/null; then
+	say "something already listens on $HOST:$PORT (another npm start?); stop it or choose PORT=..."
+	exit 1
+fi
+
 bash scripts/db.sh start
 export DATABASE_URL="${DATABASE_URL:-$(bash scripts/db.sh url)}"
 
@@ -40,6 +45,11 @@ node_modules/.bin/vite build --logLevel error >.data/build.log 2>&1 || { cat .da
 cleanup() {
 	trap - EXIT INT TERM
 	say "stopping"
+	# The app first (it finishes its requests and closes its pool), then what it depends on.
+	if [ -n "${app:-}" ] && kill -0 "$app" 2>/dev/null; then
+		kill -TERM "$app" 2>/dev/null || true
+		for _ in $(seq 1 100); do kill -0 "$app" 2>/dev/null || break; sleep 0.1; done
+	fi
 	kill_pidfile .data/worker.pid
 	kill_pidfile .data/fakes.pid
 	bash scripts/db.sh stop || true
@@ -54,7 +64,7 @@ fi
 
 node scripts/serve.js &
 app=$!
-wait_port "$HOST" "$PORT" 30 || { say "the app did not start"; exit 1; }
+wait_port "$HOST" "$PORT" 30 && kill -0 "$app" 2>/dev/null || { say "the app did not start"; exit 1; }
 cat <<TXT
 
   Loopwarden is running at $ORIGIN   (ready in $(($(date +%s) - t0)) s; Ctrl-C stops it)
