@@ -10,6 +10,12 @@ export interface LoadOptions {
 	projectKey: string;
 	seconds: number;
 	connections: number;
+	/**
+	 * Seconds of the same load before the measured run, not counted: freshly started app processes
+	 * compile their code and prepare their statements during the first seconds (common practice in
+	 * load testing is to measure the steady state after such a warm-up). 0 measures from a cold start.
+	 */
+	warmupSeconds?: number;
 }
 
 export interface LoadResult {
@@ -19,6 +25,8 @@ export interface LoadResult {
 	errors: number;
 	non2xx: number;
 	paths: string[];
+	/** Length of the measured run. */
+	seconds: number;
 }
 
 function assertLoopback(url: string) {
@@ -58,27 +66,30 @@ export async function runLoad(o: LoadOptions): Promise<LoadResult> {
 		`/p/${o.projectKey}/requirements/${id}`,
 		`/api/v1/requirements/${id}/analyses`
 	];
+	const run = (seconds: number, samples: number[]) =>
+		new Promise<Record<string, unknown>>((resolve, reject) => {
+			const instance = autocannon(
+				{
+					url: o.baseUrl,
+					connections: o.connections,
+					duration: seconds,
+					headers: { cookie },
+					requests: paths.map((path) => ({
+						method: 'GET',
+						path,
+						headers: { cookie, accept: path.startsWith('/api') ? 'application/json' : 'text/html' }
+					}))
+				},
+				(err: Error | null, r: Record<string, unknown>) => (err ? reject(err) : resolve(r))
+			);
+			instance.on('response', (_client: unknown, _status: number, _bytes: number, ms: number) =>
+				samples.push(ms)
+			);
+		});
+	if (o.warmupSeconds) await run(o.warmupSeconds, []);
 	// Our own latency samples, so that p95 is exact (autocannon's summary has p97.5, not p95).
 	const samples: number[] = [];
-	const result = await new Promise<Record<string, unknown>>((resolve, reject) => {
-		const instance = autocannon(
-			{
-				url: o.baseUrl,
-				connections: o.connections,
-				duration: o.seconds,
-				headers: { cookie },
-				requests: paths.map((path) => ({
-					method: 'GET',
-					path,
-					headers: { cookie, accept: path.startsWith('/api') ? 'application/json' : 'text/html' }
-				}))
-			},
-			(err: Error | null, r: Record<string, unknown>) => (err ? reject(err) : resolve(r))
-		);
-		instance.on('response', (_client: unknown, _status: number, _bytes: number, ms: number) =>
-			samples.push(ms)
-		);
-	});
+	const result = await run(o.seconds, samples);
 	samples.sort((a, b) => a - b);
 	const q = (p: number) =>
 		samples.length ? samples[Math.min(samples.length - 1, Math.ceil((p / 100) * samples.length) - 1)] : NaN;
@@ -88,6 +99,7 @@ export async function runLoad(o: LoadOptions): Promise<LoadResult> {
 		latencyMs: { p50: q(50), p95: q(95), p99: q(99), max: samples[samples.length - 1] ?? NaN },
 		errors: (result.errors as number) + (result.timeouts as number),
 		non2xx: result.non2xx as number,
-		paths
+		paths,
+		seconds: o.seconds
 	};
 }

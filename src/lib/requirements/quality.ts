@@ -246,9 +246,24 @@ export function earsShape(statement: string): EarsShape {
 	return 'none';
 }
 
+// The hints of a statement never change: a page shows them for the same text on every view (and its
+// component asks again while rendering), so recent results are kept. Callers must not mutate them.
+const recent = new Map<string, readonly QualityHint[]>();
+const RECENT_MAX = 500;
+
 /** All quality hints for one requirement statement, in the order they occur. */
 export function qualityHints(statement: string): QualityHint[] {
-	const text = statement ?? '';
+	const key = statement ?? '';
+	const hit = recent.get(key);
+	if (hit) return hit as QualityHint[];
+	const hints = computeHints(key);
+	if (recent.size >= RECENT_MAX) recent.delete(recent.keys().next().value!);
+	recent.set(key, Object.freeze(hints.map((h) => Object.freeze(h))));
+	return recent.get(key) as QualityHint[];
+}
+
+function computeHints(statement: string): QualityHint[] {
+	const text = statement;
 	const hints: QualityHint[] = [];
 	const add = (rule: string, f: Found | null, message: string, severity: HintSeverity = 'hint') =>
 		hints.push({ rule, severity, message, ...(f ? { span: [f.start, f.end] as [number, number] } : {}) });

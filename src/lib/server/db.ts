@@ -73,6 +73,45 @@ export function db(): Knex {
 
 export type Db = Knex | Knex.Transaction;
 
+/**
+ * Several independent reads in one round trip (each round trip costs more here than the small queries
+ * themselves). Each query's rows come back through json_agg with their columns; timestamps (columns
+ * named `at` or `*_at`) are turned back into Dates. json_agg does not promise the sub-query's order:
+ * `orderBy` gives each result's sort key, applied here.
+ */
+export async function readTogether<K extends string>(
+	conn: Db,
+	parts: Record<K, { query: Knex.QueryBuilder; orderBy?: { column: string; desc?: boolean } }>
+): Promise<Record<K, Record<string, unknown>[]>> {
+	const keys = Object.keys(parts) as K[];
+	const sql = keys.map(() => `(select coalesce(json_agg(t), '[]'::json) from ? t) as ??`).join(', ');
+	const { rows } = await conn.raw(`select ${sql}`, keys.flatMap((k) => [parts[k].query, k]) as never[]);
+	const out = {} as Record<K, Record<string, unknown>[]>;
+	for (const k of keys) {
+		const list = (rows[0][k] as Record<string, unknown>[]).map(revive);
+		const o = parts[k].orderBy;
+		if (o) {
+			const sign = o.desc ? -1 : 1;
+			list.sort((a, b) => sign * compare(a[o.column], b[o.column]));
+		}
+		out[k] = list;
+	}
+	return out;
+}
+
+function revive(row: Record<string, unknown>): Record<string, unknown> {
+	for (const [key, v] of Object.entries(row)) {
+		if (typeof v === 'string' && (key === 'at' || key.endsWith('_at'))) row[key] = new Date(v);
+	}
+	return row;
+}
+
+function compare(a: unknown, b: unknown): number {
+	const x = a instanceof Date ? a.getTime() : a;
+	const y = b instanceof Date ? b.getTime() : b;
+	return x === y ? 0 : (x as number) < (y as number) ? -1 : 1;
+}
+
 export async function closeDb(): Promise<void> {
 	if (instance) {
 		await instance.destroy();

@@ -3,8 +3,9 @@ import { checkConsistency } from '../../requirements/consistency';
 import { approvalBlockers, qualityHints } from '../../requirements/quality';
 import { enqueueForRequirement } from '../analyses/queue';
 import { analysisStates, type AnalysisStateInfo } from '../analyses/state';
-import { canonical, historyOf, recordEvent, type Actor } from '../audit';
-import { db, type Db } from '../db';
+import { canonical, historyOf, recordEvent, type Actor, type StoredEvent } from '../audit';
+import { db, readTogether, type Db } from '../db';
+import type { Knex } from 'knex';
 import { ServiceError } from '../errors';
 import {
 	links,
@@ -234,19 +235,44 @@ export async function getRequirement(id: number) {
 
 /** A requirement's page: the detail and its history (the specification versions read once for both). */
 export async function requirementPage(id: number) {
-	const found = await requirementAndSpecs(id);
+	const found = await requirementAndSpecs(id, true);
 	if (!found) return null;
-	return { requirement: found.detail, history: await requirementHistory(id, found.specList) };
+	return {
+		requirement: found.detail,
+		history: await requirementHistory(id, {
+			specList: found.specList,
+			revs: found.revs as unknown as RevisionRows,
+			events: found.events as unknown as StoredEvent[]
+		})
+	};
 }
 
-async function requirementAndSpecs(id: number) {
-	const v = await requirements.view(db(), id);
+type RevisionRows = Awaited<ReturnType<typeof revisions.all>>;
+type LinkRows = Awaited<ReturnType<typeof links.around>>;
+const builder = (q: unknown) => q as Knex.QueryBuilder;
+
+/** The requirement's rows in one round trip (plus its analysis state beside it); with its history. */
+async function requirementAndSpecs(id: number, withHistory = false) {
+	const parts: Parameters<typeof readTogether<string>>[1] = {
+		view: { query: builder(requirements.view(db(), id)) },
+		links: { query: builder(links.around(db(), id)), orderBy: { column: 'created_at' } },
+		specs: { query: builder(specs.all(db(), id)), orderBy: { column: 'version', desc: true } }
+	};
+	if (withHistory) {
+		parts.revisions = {
+			query: builder(revisions.all(db(), id)),
+			orderBy: { column: 'revision', desc: true }
+		};
+		parts.events = {
+			query: builder(historyOf(db(), 'requirement', id)),
+			orderBy: { column: 'seq', desc: true }
+		};
+	}
+	const [rows, states] = await Promise.all([readTogether(db(), parts), analysisStates(db(), [id])]);
+	const v = rows.view[0] as unknown as RequirementView | undefined;
 	if (!v) return null;
-	const [states, around, specList] = await Promise.all([
-		analysisStates(db(), [id]),
-		links.around(db(), id),
-		specs.all(db(), id)
-	]);
+	const around = rows.links as unknown as LinkRows;
+	const specList = rows.specs as unknown as SpecRows;
 	const current = specList.find((s) => Number(s.id) === Number(v.current_spec_id));
 	const detail = {
 		...summary(v, states.get(id)),
@@ -285,17 +311,18 @@ async function requirementAndSpecs(id: number) {
 				ownRevision: l.parent_revision
 			}))
 	};
-	return { detail, specList };
+	return { detail, specList, revs: rows.revisions, events: rows.events };
 }
 export type RequirementDetail = NonNullable<Awaited<ReturnType<typeof getRequirement>>>;
 type SpecRows = Awaited<ReturnType<typeof specs.all>>;
 
-export async function requirementHistory(id: number, knownSpecs?: SpecRows) {
-	const [revs, specList, events] = await Promise.all([
-		revisions.all(db(), id),
-		knownSpecs ?? specs.all(db(), id),
-		historyOf(db(), 'requirement', id)
-	]);
+export async function requirementHistory(
+	id: number,
+	known?: { specList: SpecRows; revs: RevisionRows; events: StoredEvent[] }
+) {
+	const [revs, specList, events] = known
+		? [known.revs, known.specList, known.events]
+		: await Promise.all([revisions.all(db(), id), specs.all(db(), id), historyOf(db(), 'requirement', id)]);
 	return {
 		revisions: revs.map((r) => ({
 			revision: r.revision,

@@ -160,18 +160,13 @@ stated as (
 ),
 page as (
 	select *, count(*) over ()::int as total from stated /*WHERE*/ /*ORDER*/ /*LIMIT*/
-),
-par as (
-	select l.child_id as id, array_agg(x.identifier order by x.number) as ids
-	from requirement_links l join requirements x on x.id = l.parent_id
-	where l.removed_at is null and l.child_id in (select id from page) group by l.child_id
-),
-chi as (
-	select l.parent_id as id, array_agg(x.identifier order by x.number) as ids
-	from requirement_links l join requirements x on x.id = l.child_id
-	where l.removed_at is null and l.parent_id in (select id from page) group by l.parent_id
 )
-select p.*, rr.statement, rr.rationale, rr.content_hash, par.ids as parents, chi.ids as children,
+select p.*, rr.statement, rr.rationale, rr.content_hash,
+	-- Per row through the link indexes: a grouped sub-query here was aggregated once per page row.
+	(select array_agg(x.identifier order by x.number) from requirement_links l join requirements x on x.id = l.parent_id
+		where l.removed_at is null and l.child_id = p.id) as parents,
+	(select array_agg(x.identifier order by x.number) from requirement_links l join requirements x on x.id = l.child_id
+		where l.removed_at is null and l.parent_id = p.id) as children,
 	s.version as spec_version, s.content_hash as spec_hash, s."check", s.required_margin,
 	m.name as model_name, mv.version as model_version, mv.content_hash as model_hash,
 	lt.status as latest_status, lt.verdict as latest_verdict, lt.result as latest_result, lt.worst_point as latest_worst_point,
@@ -187,8 +182,6 @@ left join model_versions mv on mv.id = p.model_version_id
 left join analysis_runs lt on lt.id = p.latest_run_id
 left join model_versions lmv on lmv.id = lt.model_version_id
 left join stability_specs ls on ls.id = lt.spec_id
-left join par on par.id = p.id
-left join chi on chi.id = p.id
 /*ORDER*/
 `;
 
