@@ -15,10 +15,19 @@ const sections: Record<string, Section> = {
 	// Certified circle check vs a 10,000-point grid, orders 2..30, on a lightly damped case (prints a table).
 	engine: async () => (await import('./bench/engine')).engineSection(),
 	reverify: async () => (await import('./bench/reverify')).reverifySection(),
-	upload: async () => (await import('./bench/upload')).uploadSection()
+	upload: async () => (await import('./bench/upload')).uploadSection(),
+	// 10,000 generated requirements: trace-matrix API, XLSX export, the matrix page in Chromium.
+	trace: async () => (await import('./bench/trace')).traceSection()
 };
 
 const wanted = process.argv.slice(2).filter((a) => !a.startsWith('-'));
+const unknown = wanted.filter((w) => !(w in sections));
+if (unknown.length) {
+	console.error(
+		`no bench section ${unknown.join(', ')}; the sections are: ${Object.keys(sections).join(', ')}`
+	);
+	process.exit(2);
+}
 let failed = 0;
 for (const [key, run] of Object.entries(sections)) {
 	if (wanted.length && !wanted.includes(key)) continue;
