@@ -14,6 +14,8 @@ import { enqueueForModelVersion } from '../../../src/lib/server/analyses/queue';
 import { analysisStates } from '../../../src/lib/server/analyses/state';
 import { closeDb } from '../../../src/lib/server/db';
 import { stopBoss } from '../../../src/lib/server/jobs/boss';
+import { queueForEngineVersion } from '../../../src/lib/server/jobs/engine-version';
+import { verifyChain } from '../../../src/lib/server/audit';
 import {
 	CUBE,
 	LAG,
@@ -338,6 +340,23 @@ describe('publishing a model version', () => {
 			.first();
 		expect(ev.after).toMatchObject({ run: run.id, status: 'error', verdict: null });
 		expect(ev.after.error).toMatch(/cruise/);
+	});
+});
+
+describe('engine versions', () => {
+	it('a version not seen before is recorded once, with an audit event; seeing it again does nothing', async () => {
+		// Another version string than the running engine's: nothing is queued (the running engine's own
+		// first start queues every requirement, which would disturb the other tests sharing this database).
+		const version = `0.0.0-test-${Date.now()}`;
+		expect(await queueForEngineVersion(version)).toEqual({ newVersion: true, queued: 0 });
+		expect(await queueForEngineVersion(version)).toEqual({ newVersion: false, queued: 0 });
+		const events = await testDb()('audit_events').where({
+			action: 'engine.new-version',
+			subject_id: version
+		});
+		expect(events).toHaveLength(1);
+		expect(events[0].after).toEqual({ engineVersion: version, runsQueued: 0 });
+		expect(await verifyChain(testDb())).toMatchObject({ ok: true });
 	});
 });
 
