@@ -3,26 +3,9 @@
 // Uses a scratch database in the cluster of DATABASE_URL (npm start's cluster when unset) and drops it.
 //   tsx scripts/bench/reverify.ts            (or as a section of npm run bench)
 //   BENCH_REQUIREMENTS=500 BENCH_WORKERS=2
-import { execFileSync, spawn, type ChildProcess } from 'node:child_process';
-import knexFactory from 'knex';
+import { spawn, type ChildProcess } from 'node:child_process';
 import { loadavg } from 'node:os';
-import { fileURLToPath } from 'node:url';
-
-const ROOT = fileURLToPath(new URL('../..', import.meta.url));
-
-export interface BenchResult {
-	name: string;
-	figure: string;
-	target: string;
-	ok: boolean;
-	details: Record<string, number | string>;
-}
-
-function clusterUrl(): string {
-	if (process.env.DATABASE_URL) return process.env.DATABASE_URL;
-	execFileSync('bash', ['scripts/db.sh', 'start'], { cwd: ROOT, stdio: 'ignore' });
-	return execFileSync('bash', ['scripts/db.sh', 'url'], { cwd: ROOT, encoding: 'utf8' }).trim();
-}
+import { ROOT, scratchDatabase, type BenchResult } from './common';
 
 const LAG = { kind: 'tf', num: [1], den: [1, 1] };
 // A second version with a lightly damped mode: the engine has real work to do on every run.
@@ -31,25 +14,12 @@ const MODE = { kind: 'tf', num: [4], den: [1, 1.3, 5.12, 4.9, 4] }; // (s^2 + 0.
 export async function reverifySection(): Promise<BenchResult> {
 	const n = Number(process.env.BENCH_REQUIREMENTS ?? 500);
 	const workers = Number(process.env.BENCH_WORKERS ?? 2);
-	const base = new URL(clusterUrl());
-	const name = `lw_bench_${process.pid}`;
-	const admin = knexFactory({ client: 'pg', connection: base.toString() });
-	await admin.raw(`create database ${name}`);
-	const url = new URL(base.toString());
-	url.pathname = `/${name}`;
+	const scratch = await scratchDatabase(`lw_bench_${process.pid}`);
+	const url = new URL(scratch.url);
 	const children: ChildProcess[] = [];
 	const previousUrl = process.env.DATABASE_URL;
 	process.env.DATABASE_URL = url.toString();
 	try {
-		execFileSync(
-			'node_modules/.bin/tsx',
-			['node_modules/knex/bin/cli.js', '--knexfile', 'knexfile.ts', 'migrate:latest'],
-			{
-				cwd: ROOT,
-				env: { ...process.env, DATABASE_URL: url.toString() },
-				stdio: 'ignore'
-			}
-		);
 		// Imported only now: the modules read DATABASE_URL when they first connect.
 		const { db, closeDb } = await import('../../src/lib/server/db');
 		const { createModel, publishVersion } = await import('../../src/lib/server/models/service');
@@ -164,8 +134,7 @@ export async function reverifySection(): Promise<BenchResult> {
 				// gone
 			}
 		}
-		await admin.raw(`drop database if exists ${name} with (force)`);
-		await admin.destroy();
+		await scratch.drop();
 	}
 }
 

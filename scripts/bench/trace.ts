@@ -8,19 +8,10 @@
 //   tsx scripts/bench/trace.ts            (or as a section of npm run bench: npm run bench -- trace)
 //   BENCH_REQUIREMENTS=10000 BENCH_PORT=4199
 import { execFileSync, spawn, type ChildProcess } from 'node:child_process';
-import { existsSync, mkdirSync, readFileSync } from 'node:fs';
+import { existsSync, mkdirSync } from 'node:fs';
 import { loadavg } from 'node:os';
-import { fileURLToPath } from 'node:url';
 import knexFactory from 'knex';
-import type { BenchResult } from './reverify';
-
-const ROOT = fileURLToPath(new URL('../..', import.meta.url));
-
-function clusterUrl(): string {
-	if (process.env.DATABASE_URL) return process.env.DATABASE_URL;
-	execFileSync('bash', ['scripts/db.sh', 'start'], { cwd: ROOT, stdio: 'ignore' });
-	return execFileSync('bash', ['scripts/db.sh', 'url'], { cwd: ROOT, encoding: 'utf8' }).trim();
-}
+import { ROOT, rssBytes, scratchDatabase, signIn, type BenchResult } from './common';
 
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 const pct = (xs: number[], p: number) => {
@@ -29,10 +20,7 @@ const pct = (xs: number[], p: number) => {
 };
 const round = (x: number) => Math.round(x * 10) / 10;
 
-function rssMb(pid: number): number {
-	const m = /VmRSS:\s+(\d+) kB/.exec(readFileSync(`/proc/${pid}/status`, 'utf8'));
-	return m ? Number(m[1]) / 1024 : NaN;
-}
+const rssMb = (pid: number) => rssBytes(pid) / 1024 / 1024;
 
 /** Fill the scratch database: set-based inserts, a few seconds for 10,000 requirements. */
 export async function generate(url: string, n: number, passwordHash: string) {
@@ -167,44 +155,15 @@ export async function generate(url: string, n: number, passwordHash: string) {
 	}
 }
 
-async function signIn(base: string, email: string, password: string): Promise<string> {
-	const res = await fetch(`${base}/signin`, {
-		method: 'POST',
-		redirect: 'manual',
-		headers: { 'content-type': 'application/x-www-form-urlencoded', origin: base, accept: 'text/html' },
-		body: new URLSearchParams({ email, password, redirectTo: '/' })
-	});
-	const cookies = res.headers
-		.getSetCookie()
-		.map((c) => c.split(';')[0])
-		.filter((c) => !c.endsWith('='));
-	if (!cookies.some((c) => c.includes('session-token')))
-		throw new Error(`bench sign-in failed: HTTP ${res.status}`);
-	return cookies.join('; ');
-}
-
 export async function traceSection(): Promise<BenchResult> {
 	const n = Number(process.env.BENCH_REQUIREMENTS ?? 10_000);
 	const port = Number(process.env.BENCH_PORT ?? 4199);
 	const base = `http://127.0.0.1:${port}`;
-	const cluster = new URL(clusterUrl());
-	const name = `lw_bench_trace_${process.pid}`;
-	const admin = knexFactory({ client: 'pg', connection: cluster.toString() });
-	await admin.raw(`create database ${name}`);
-	const url = new URL(cluster.toString());
-	url.pathname = `/${name}`;
+	const scratch = await scratchDatabase(`lw_bench_trace_${process.pid}`);
+	const url = new URL(scratch.url);
 	let app: ChildProcess | undefined;
 	try {
 		const env = { ...process.env, DATABASE_URL: url.toString() };
-		execFileSync(
-			'node_modules/.bin/tsx',
-			['node_modules/knex/bin/cli.js', '--knexfile', 'knexfile.ts', 'migrate:latest'],
-			{
-				cwd: ROOT,
-				env,
-				stdio: 'ignore'
-			}
-		);
 		const { hashPassword } = await import('../../src/lib/server/passwords');
 		const password = 'bench-password-123';
 		const tGen = performance.now();
@@ -376,8 +335,7 @@ export async function traceSection(): Promise<BenchResult> {
 			}
 			await sleep(500);
 		}
-		await admin.raw(`drop database if exists ${name} with (force)`);
-		await admin.destroy();
+		await scratch.drop();
 	}
 }
 

@@ -7,7 +7,7 @@
 //   BENCH_UPLOAD_MB=200
 import { execFileSync, spawn, type ChildProcess } from 'node:child_process';
 import { createHash, randomBytes } from 'node:crypto';
-import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { existsSync, mkdtempSync, rmSync } from 'node:fs';
 import { request } from 'node:http';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -15,27 +15,7 @@ import { fileURLToPath } from 'node:url';
 import knexFactory from 'knex';
 import { startS3Fake } from '../../fakes/s3';
 import { hashPassword } from '../../src/lib/server/passwords';
-
-const ROOT = fileURLToPath(new URL('../..', import.meta.url));
-
-export interface BenchResult {
-	name: string;
-	figure: string;
-	target: string;
-	ok: boolean;
-	details: Record<string, number | string>;
-}
-
-function clusterUrl(): string {
-	if (process.env.DATABASE_URL) return process.env.DATABASE_URL;
-	execFileSync('bash', ['scripts/db.sh', 'start'], { cwd: ROOT, stdio: 'ignore' });
-	return execFileSync('bash', ['scripts/db.sh', 'url'], { cwd: ROOT, encoding: 'utf8' }).trim();
-}
-
-function rssBytes(pid: number): number {
-	const m = /VmRSS:\s+(\d+) kB/.exec(readFileSync(`/proc/${pid}/status`, 'utf8'));
-	return m ? Number(m[1]) * 1024 : 0;
-}
+import { ROOT, rssBytes, scratchDatabase, signIn, type BenchResult } from './common';
 
 async function waitFor(url: string, ms = 30_000) {
 	const end = Date.now() + ms;
@@ -48,22 +28,6 @@ async function waitFor(url: string, ms = 30_000) {
 		}
 	}
 	throw new Error(`${url} did not answer within ${ms} ms`);
-}
-
-async function signIn(base: string, email: string, password: string): Promise<string> {
-	const res = await fetch(`${base}/signin`, {
-		method: 'POST',
-		redirect: 'manual',
-		headers: { 'content-type': 'application/x-www-form-urlencoded', origin: base, accept: 'text/html' },
-		body: new URLSearchParams({ email, password, redirectTo: '/' })
-	});
-	const cookies = res.headers
-		.getSetCookie()
-		.map((c) => c.split(';')[0])
-		.filter((c) => !c.endsWith('='));
-	if (!cookies.some((c) => c.includes('session-token')))
-		throw new Error(`bench sign-in failed: HTTP ${res.status}`);
-	return cookies.join('; ');
 }
 
 /** Stream a multipart upload of `size` bytes of text from memory-light chunks; resolves with the answer. */
@@ -140,12 +104,8 @@ function streamUpload(
 export async function uploadSection(): Promise<BenchResult> {
 	const megabytes = Number(process.env.BENCH_UPLOAD_MB ?? 200);
 	const size = megabytes * 1000 * 1000;
-	const base = new URL(clusterUrl());
-	const name = `lw_bench_upload_${process.pid}`;
-	const admin = knexFactory({ client: 'pg', connection: base.toString() });
-	await admin.raw(`create database ${name}`);
-	const url = new URL(base.toString());
-	url.pathname = `/${name}`;
+	const scratch = await scratchDatabase(`lw_bench_upload_${process.pid}`);
+	const url = new URL(scratch.url);
 	const work = mkdtempSync(join(tmpdir(), 'lw-bench-upload-'));
 	const buildWork = join(ROOT, '.data', `bench-upload-${process.pid}`);
 	const port = 4300 + (process.pid % 500);
@@ -155,15 +115,6 @@ export async function uploadSection(): Promise<BenchResult> {
 	let s3: Awaited<ReturnType<typeof startS3Fake>> | undefined;
 	const k = knexFactory({ client: 'pg', connection: url.toString() });
 	try {
-		execFileSync(
-			'node_modules/.bin/tsx',
-			['node_modules/knex/bin/cli.js', '--knexfile', 'knexfile.ts', 'migrate:latest'],
-			{
-				cwd: ROOT,
-				env: { ...process.env, DATABASE_URL: url.toString() },
-				stdio: 'ignore'
-			}
-		);
 		const password = 'bench-password-1';
 		const [u] = await k('users')
 			.insert({
@@ -262,8 +213,7 @@ export async function uploadSection(): Promise<BenchResult> {
 		await s3?.close().catch(() => {});
 		await k.destroy();
 		await new Promise((r) => setTimeout(r, 300));
-		await admin.raw(`drop database if exists ${name} with (force)`).catch(() => {});
-		await admin.destroy();
+		await scratch.drop();
 		rmSync(work, { recursive: true, force: true });
 		rmSync(buildWork, { recursive: true, force: true });
 	}
