@@ -29,7 +29,7 @@ async function relaxed(trx: Knex.Transaction) {
 	await trx.raw('set local synchronous_commit = off');
 }
 
-const FINISHED_COLUMNS: (keyof FinishedRow)[] = [
+const FINISHED_COLUMNS = [
 	'id',
 	'trigger_ref',
 	'project_id',
@@ -45,26 +45,8 @@ const FINISHED_COLUMNS: (keyof FinishedRow)[] = [
 	'output_hash',
 	'error',
 	'duration_ms'
-];
-
-type FinishedRow = Pick<
-	RunRow,
-	| 'id'
-	| 'trigger_ref'
-	| 'project_id'
-	| 'requirement_id'
-	| 'requirement_revision'
-	| 'spec_id'
-	| 'model_version_id'
-	| 'model_hash'
-	| 'engine_version'
-	| 'status'
-	| 'verdict'
-	| 'worst_point'
-	| 'output_hash'
-	| 'error'
-	| 'duration_ms'
->;
+] as const;
+type FinishedRow = Pick<RunRow, (typeof FINISHED_COLUMNS)[number]>;
 
 /**
  * The verdict goes into the audit trail in the transaction that stores it, filed under the requirement
@@ -155,7 +137,7 @@ export async function processRuns(
 					),
 					finished_at: trx.fn.now()
 				})
-				.returning(FINISHED_COLUMNS);
+				.returning([...FINISHED_COLUMNS]);
 			for (const d of done) {
 				await recordRunFinished(trx, actor, d);
 				mails += await afterRunFinished(trx, d);
@@ -219,7 +201,7 @@ export async function processRuns(
 			const [finished] = await trx('analysis_runs')
 				.where({ id: runId, status: 'running' })
 				.update({ ...update, finished_at: trx.fn.now(), duration_ms: duration })
-				.returning(FINISHED_COLUMNS);
+				.returning([...FINISHED_COLUMNS]);
 			// Another attempt finished first: keep its result.
 			if (!finished) return 0;
 			await recordRunFinished(trx, actor, finished);

@@ -239,11 +239,11 @@ export async function requirementPage(id: number) {
 	if (!found) return null;
 	return {
 		requirement: found.detail,
-		history: await requirementHistory(id, {
-			specList: found.specList,
-			revs: found.revs as unknown as RevisionRows,
-			events: found.events as unknown as StoredEvent[]
-		})
+		history: historyView(
+			found.revs as unknown as RevisionRows,
+			found.specList,
+			found.events as unknown as StoredEvent[]
+		)
 	};
 }
 
@@ -316,13 +316,8 @@ async function requirementAndSpecs(id: number, withHistory = false) {
 export type RequirementDetail = NonNullable<Awaited<ReturnType<typeof getRequirement>>>;
 type SpecRows = Awaited<ReturnType<typeof specs.all>>;
 
-export async function requirementHistory(
-	id: number,
-	known?: { specList: SpecRows; revs: RevisionRows; events: StoredEvent[] }
-) {
-	const [revs, specList, events] = known
-		? [known.revs, known.specList, known.events]
-		: await Promise.all([revisions.all(db(), id), specs.all(db(), id), historyOf(db(), 'requirement', id)]);
+/** The page's history: revisions, specification versions and audit events, newest first. */
+function historyView(revs: RevisionRows, specList: SpecRows, events: StoredEvent[]) {
 	return {
 		revisions: revs.map((r) => ({
 			revision: r.revision,
