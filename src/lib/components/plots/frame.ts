@@ -1,4 +1,5 @@
 import { scaleLinear, type ScaleLinear } from 'd3-scale';
+import type { sectorGeometry } from '$lib/stability';
 
 // Shared geometry of the complex-plane plots: an equal-aspect frame (one unit is as long on both axes,
 // so circles stay circles) with ticks from d3-scale.
@@ -110,3 +111,38 @@ export function pathOf(frame: Frame, xy: [number, number][]): string {
 /** Dash patterns so overlaid curves differ by more than colour. */
 export const DASHES = ['', '7 4', '2 3', '10 3 2 3', '4 4'];
 export const STROKES = ['#12343b', '#b7791f', '#6b4fa0', '#1f6f43', '#a12a22'];
+
+/** The plotting area inside the frame's padding. */
+export function innerRect(frame: Frame): { x: number; y: number; w: number; h: number } {
+	return {
+		x: frame.pad.left,
+		y: frame.pad.top,
+		w: frame.width - frame.pad.left - frame.pad.right,
+		h: frame.height - frame.pad.top - frame.pad.bottom
+	};
+}
+
+/** The forbidden region of a sector on the Nyquist plane (a disk, its outside, or a half-plane). */
+export type SectorGeometry = ReturnType<typeof sectorGeometry>;
+
+/** What of the plane the region needs to show: the disk, or a strip around the half-plane's edge. */
+export function regionBox(g: SectorGeometry): Box {
+	if (g.kind === 'disk')
+		return { x0: g.centre - g.radius, x1: g.centre + g.radius, y0: -g.radius, y1: g.radius };
+	return { x0: g.boundary - 0.2, x1: g.boundary + 0.2, y0: -0.2, y1: 0.2 };
+}
+
+/** SVG path of the forbidden region, clipped to the plotting area, with the fill rule it needs. */
+export function regionPath(frame: Frame, g: SectorGeometry): { d: string; rule: 'nonzero' | 'evenodd' } {
+	const { x, y, w, h } = innerRect(frame);
+	if (g.kind === 'half-plane') {
+		const bx = Math.max(x, Math.min(x + w, frame.x(g.boundary)));
+		return { d: `M${x},${y}H${bx}V${y + h}H${x}Z`, rule: 'nonzero' };
+	}
+	const cx = frame.x(g.centre);
+	const cy = frame.y(0);
+	const r = Math.abs(frame.x(g.centre + g.radius) - cx);
+	const circle = `M${cx - r},${cy}a${r},${r} 0 1,0 ${2 * r},0a${r},${r} 0 1,0 ${-2 * r},0Z`;
+	if (g.curveMust === 'stay-outside') return { d: circle, rule: 'nonzero' };
+	return { d: `M${x},${y}H${x + w}V${y + h}H${x}Z` + circle, rule: 'evenodd' };
+}
