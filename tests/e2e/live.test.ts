@@ -1,6 +1,17 @@
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { closeTestDb, createModel, createModelVersion, createRequirement, createTeam } from '../factories';
+import {
+	closeTestDb,
+	createEvidence,
+	createModel,
+	createModelVersion,
+	createRequirement,
+	createRun,
+	createSpec,
+	createTeam,
+	lagModel
+} from '../factories';
+import { ENGINE_VERSION } from '../../src/lib/stability/index';
 import { launchBrowser, signInPage as signIn } from '../helpers/browser';
 import { env } from '../helpers/env';
 import { signedIn } from '../helpers/http';
@@ -117,6 +128,101 @@ describe('open pages follow a saved specification without a reload', () => {
 
 			// None of the three pages was reloaded.
 			for (const p of [reqPage, listPage, tracePage]) expect(await stillMarked(p)).toBe(true);
+		} finally {
+			resumeHarnessWorker();
+			await ctx.close();
+		}
+	}, 120_000);
+});
+
+describe('open pages follow a model publish and an evidence review without a reload', () => {
+	it('the requirement page and the trace matrix show the re-run pending, the new verdict, then the review', async () => {
+		const team = await createTeam();
+		const model = await createModel(team.project.id, {
+			ownerId: team.users.analyst.id,
+			name: 'live rig loop'
+		});
+		await createModelVersion(model.id, lagModel(1, 1));
+		const req = await createRequirement(team.project.id, {
+			ownerId: team.users.engineer.id,
+			title: 'Live roll loop stability',
+			methods: ['analysis', 'test']
+		});
+		// 1/(s+1) certifies every sector [0, k] (Re G > 0); 1/(s+1)^3 certifies only k2 < 4 (see above).
+		await createSpec(req.id, { modelId: model.id, check: { type: 'circle', sector: [0, 5] } });
+		await createRun(req.id, { engineVersion: ENGINE_VERSION, verdict: 'pass' });
+		const evidence = await createEvidence(team.project.id, [req.id], { title: 'Roll rig sweep' });
+
+		const ctx = await browser.newContext();
+		const reqPage = await ctx.newPage();
+		try {
+			await signIn(reqPage, team.users.viewer.email, team.users.viewer.password);
+			const tracePage = await ctx.newPage();
+			await tracePage.goto(`${env.baseUrl}/p/${team.project.key}/trace`);
+			await reqPage.goto(`${env.baseUrl}/p/${team.project.key}/requirements/${req.id}`);
+			const row = () =>
+				tracePage.locator(`[data-testid=matrix-row]:has(a:text-is("${req.identifier}"))`).first();
+			const shown = async () => {
+				await tracePage.bringToFront();
+				const trace = await row().getAttribute('data-analysis-state');
+				await reqPage.bringToFront();
+				return {
+					panel: await reqPage
+						.locator('[data-testid=analysis-panel] [data-state]')
+						.first()
+						.getAttribute('data-state'),
+					header: await reqPage.locator('h1 + p [data-state]').first().getAttribute('data-state'),
+					trace
+				};
+			};
+			const same = (state: string) => ({ panel: state, header: state, trace: state });
+			await expect.poll(shown, { timeout: 15_000 }).toEqual(same('verified'));
+			for (const p of [reqPage, tracePage]) await mark(p);
+
+			// An analyst publishes a version that fails the sector: pending, then failing.
+			const analyst = await signedIn(team.users.analyst.email, team.users.analyst.password);
+			pauseHarnessWorker();
+			const pub = await analyst.json(
+				`/api/v1/projects/${team.project.key}/models/${model.id}/versions`,
+				'POST',
+				{ note: 'rig lags', operatingPoints: points(CUBE) }
+			);
+			expect(pub.status).toBe(201);
+			await expect.poll(shown, { timeout: 15_000 }).toEqual(same('pending'));
+			resumeHarnessWorker();
+			await expect.poll(shown, { timeout: 30_000, interval: 500 }).toEqual(same('failing'));
+
+			// A certifier accepts the test evidence: the evidence panel and the matrix row follow.
+			const review = () =>
+				reqPage
+					.locator('section[aria-label="Test evidence"] [data-review]')
+					.first()
+					.getAttribute('data-review');
+			expect(await review()).toBe('pending');
+			const certifier = await signedIn(team.users.certifier.email, team.users.certifier.password);
+			const res = await certifier.json(`/api/v1/evidence/${evidence.id}/review`, 'POST', {
+				decision: 'accepted',
+				comment: 'Matches the rig log.',
+				revision: 1
+			});
+			expect(res.status).toBe(201);
+			await expect.poll(review, { timeout: 15_000 }).toBe('accepted');
+			// The combined state the panel shows is the one the server now gives.
+			const api = await (
+				await certifier.get(`/api/v1/projects/${team.project.key}/evidence?requirement=${req.id}`)
+			).json();
+			await expect
+				.poll(() =>
+					reqPage
+						.locator('section[aria-label="Test evidence"] [data-combined]')
+						.first()
+						.getAttribute('data-combined')
+				)
+				.toBe(api.combined.state);
+			await tracePage.bringToFront();
+			await expect.poll(() => row().textContent(), { timeout: 15_000 }).toContain('1/1 accepted');
+
+			for (const p of [reqPage, tracePage]) expect(await stillMarked(p)).toBe(true);
 		} finally {
 			resumeHarnessWorker();
 			await ctx.close();
