@@ -125,6 +125,9 @@ describe('open pages follow a saved specification without a reload', () => {
 			const panelText = await reqPage.locator('[data-testid=analysis-panel]').textContent();
 			expect(panelText).toContain('sector [0, 5]');
 			expect(panelText).not.toContain('sector [0, 3]');
+			// The page's own text still shows version 1 (the form keeps what may be typed there) and says so.
+			const note = await reqPage.locator('[data-testid=spec-changed]').textContent();
+			expect(note?.replace(/\s+/g, ' ')).toContain('version 2 is in force');
 
 			// None of the three pages was reloaded.
 			for (const p of [reqPage, listPage, tracePage]) expect(await stillMarked(p)).toBe(true);
