@@ -6,7 +6,7 @@ import { closeDb, isDatabaseUnavailable } from '$lib/server/db';
 import { stopBoss } from '$lib/server/jobs/boss';
 import { startMailLoop } from '$lib/server/mail';
 // Registers the job queue's health check.
-import '$lib/server/jobs/health';
+import '$lib/server/analyses/health';
 import { MAX_NON_UPLOAD_BODY, inspectBody, oversized, refusal } from '$lib/server/input-guard';
 import { userFromApiToken } from '$lib/server/tokens-auth';
 

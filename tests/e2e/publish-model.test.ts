@@ -11,7 +11,7 @@ import {
 	createTeam,
 	lagModel
 } from '../factories';
-import { launchBrowser } from '../helpers/browser';
+import { launchBrowser, signInPage as signIn } from '../helpers/browser';
 import { env } from '../helpers/env';
 import { CUBE, pauseHarnessWorker, resumeHarnessWorker } from '../integration/models/helpers';
 
@@ -27,14 +27,6 @@ afterAll(async () => {
 	await browser?.close();
 	await closeTestDb();
 });
-
-async function signIn(page: Page, email: string, password: string) {
-	await page.goto(`${env.baseUrl}/signin`);
-	await page.fill('#email', email);
-	await page.fill('#password', password);
-	await page.click('button:has-text("Sign in")');
-	await page.waitForURL((u) => !u.pathname.startsWith('/signin'));
-}
 
 /** The analysis state the requirement page shows (the live panel if the page has it, else the badge). */
 async function shownState(page: Page): Promise<string | null> {

@@ -1,4 +1,5 @@
-import { chromium, type Browser } from 'playwright-core';
+import { chromium, type Browser, type Page } from 'playwright-core';
+import { env } from './env';
 
 // Debian's chromium, headless, with the network-quiet flags this machine needs.
 export async function launchBrowser(): Promise<Browser> {
@@ -17,4 +18,13 @@ export async function launchBrowser(): Promise<Browser> {
 			'--disable-sync'
 		]
 	});
+}
+
+/** Sign in through the form and wait until the app has left the sign-in page. */
+export async function signInPage(page: Page, email: string, password: string): Promise<void> {
+	await page.goto(`${env.baseUrl}/signin`);
+	await page.fill('#email', email);
+	await page.fill('#password', password);
+	await page.click('button:has-text("Sign in")');
+	await page.waitForURL((u) => !u.pathname.startsWith('/signin'));
 }

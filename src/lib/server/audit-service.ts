@@ -1,4 +1,4 @@
-import { verifyChain, type StoredEvent } from './audit';
+import { recentEvents, verifyChain } from './audit';
 import { db } from './db';
 
 export interface EventView {
@@ -12,11 +12,7 @@ export interface EventView {
 }
 
 export async function listRecentEvents(limit = 200): Promise<EventView[]> {
-	const rows: (StoredEvent & { key: string | null })[] = await db()('audit_events as e')
-		.leftJoin('projects as p', 'p.id', 'e.project_id')
-		.orderBy('e.seq', 'desc')
-		.limit(limit)
-		.select('e.*', 'p.key');
+	const rows = await recentEvents(db(), limit);
 	return rows.map((r) => ({
 		seq: r.seq,
 		at: new Date(r.at).toISOString(),

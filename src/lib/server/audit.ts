@@ -162,3 +162,11 @@ export function actorOf(locals: App.Locals): Actor {
 		};
 	return { userId: u.id, label: u.email, requestId: locals.requestId };
 }
+
+/** The newest events of the whole trail, with the key of each event's project. */
+export const recentEvents = (db: Db, limit: number) =>
+	db('audit_events as e')
+		.leftJoin('projects as p', 'p.id', 'e.project_id')
+		.orderBy('e.seq', 'desc')
+		.limit(limit)
+		.select('e.*', 'p.key') as Promise<(StoredEvent & { key: string | null })[]>;

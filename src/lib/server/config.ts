@@ -53,6 +53,21 @@ export const config = {
 			forcePathStyle: pathStyle ? pathStyle === 'true' : !!endpoint
 		};
 	},
+	/**
+	 * Analysis runs. A run gets `maxAttempts` attempts (LW_RUN_RETRY_LIMIT retries after the first),
+	 * counted on its analysis_runs row; a worker that stops mid-run leaves its job to expire after
+	 * `expireSeconds`, and the queue hands it out again after `retryDelaySeconds`. `holdMs` makes a
+	 * worker wait after claiming (the crash test only).
+	 */
+	get runs() {
+		return {
+			maxAttempts: Math.max(0, int('LW_RUN_RETRY_LIMIT', 4)) + 1,
+			retryDelaySeconds: Math.max(1, int('LW_RUN_RETRY_DELAY_SECONDS', 1)),
+			expireSeconds: Math.max(1, int('LW_RUN_EXPIRE_SECONDS', 20)),
+			holdMs: Math.max(0, int('LW_WORKER_HOLD_MS', 0)),
+			queueMaintenanceSeconds: Math.max(1, int('LW_QUEUE_MAINTENANCE_SECONDS', 2))
+		};
+	},
 	/** Largest evidence file accepted, in bytes (default 200 MiB). */
 	get evidenceMaxBytes(): number {
 		return int('EVIDENCE_MAX_BYTES', 200 * 1024 * 1024);

@@ -1,6 +1,7 @@
 import nodemailer, { type Transporter } from 'nodemailer';
 import { config } from './config';
 import { db, type Db } from './db';
+import { outbox } from './outbox/repo';
 
 // Mail goes through an outbox table: a change and the mail it causes are written in one
 // transaction, and delivery is retried until the SMTP relay accepts the message.
@@ -26,7 +27,7 @@ export interface Mail {
 
 /** Queue a mail in the caller's transaction. Call `kickMail()` after the commit. */
 export async function enqueueMail(trx: Db, mail: Mail): Promise<void> {
-	await trx('mail_outbox').insert({ to_address: mail.to, subject: mail.subject, body_text: mail.text });
+	await outbox.insert(trx, mail);
 }
 
 let running: Promise<number> | undefined;
@@ -43,13 +44,7 @@ async function deliver(): Promise<number> {
 	let sent = 0;
 	for (;;) {
 		const delivered = await db().transaction(async (trx) => {
-			const row = await trx('mail_outbox')
-				.whereNull('sent_at')
-				.where('next_attempt_at', '<=', trx.fn.now())
-				.orderBy('id')
-				.forUpdate()
-				.skipLocked()
-				.first();
+			const row = await outbox.nextDue(trx);
 			if (!row) return null;
 			try {
 				await t.sendMail({
@@ -58,20 +53,12 @@ async function deliver(): Promise<number> {
 					subject: row.subject,
 					text: row.body_text
 				});
-				await trx('mail_outbox')
-					.where({ id: row.id })
-					.update({ sent_at: trx.fn.now(), attempts: row.attempts + 1 });
+				await outbox.markSent(trx, row);
 				return true;
 			} catch (e) {
 				// Back off: 5 s, 10 s, 20 s ... at most 10 minutes.
 				const delay = Math.min(600, 5 * 2 ** Math.min(row.attempts, 7));
-				await trx('mail_outbox')
-					.where({ id: row.id })
-					.update({
-						attempts: row.attempts + 1,
-						last_error: String((e as Error).message ?? e).slice(0, 500),
-						next_attempt_at: trx.raw(`now() + (? || ' seconds')::interval`, [String(delay)])
-					});
+				await outbox.markFailed(trx, row, String((e as Error).message ?? e), delay);
 				return false;
 			}
 		});

@@ -1,6 +1,6 @@
 import { recordEvent } from './audit';
 import { db } from './db';
-import type { UserRow } from './identity/repo';
+import { apiTokens, type UserRow } from './identity/repo';
 import type { Role } from './identity/roles';
 import { hashToken } from './tokens';
 
@@ -16,20 +16,12 @@ export async function userFromApiToken(
 	request?: { method: string; path: string; requestId: string }
 ): Promise<{ user: UserRow; token: { id: number; projectId: number; role: Role } } | undefined> {
 	if (!token || token.length > 200) return undefined;
-	const row = await db()('api_tokens as t')
-		.join('users as u', 'u.id', 't.user_id')
-		.where('t.token_hash', hashToken(token))
-		.whereNull('t.revoked_at')
-		.where('u.disabled', false)
-		.first('u.*', 't.id as token_id', 't.project_id as token_project_id', 't.role as token_role');
+	const row = await apiTokens.byHash(db(), hashToken(token));
 	if (!row) return undefined;
 	const { token_id, token_project_id, token_role, ...user } = row;
 	const owner = user as UserRow;
 	if (request) await auditUse(token_id, token_project_id, owner, request);
-	db()('api_tokens')
-		.where({ id: token_id })
-		.update({ last_used_at: db().fn.now() })
-		.catch(() => undefined);
+	apiTokens.touch(db(), token_id).catch(() => undefined);
 	return { user: owner, token: { id: token_id, projectId: token_project_id, role: token_role } };
 }
 
@@ -45,19 +37,7 @@ async function auditUse(
 	request: { method: string; path: string; requestId: string }
 ): Promise<void> {
 	await db().transaction(async (trx) => {
-		const claimed = await trx('api_tokens')
-			.where({ id: tokenId })
-			.where((q) =>
-				q
-					.whereNull('use_audited_at')
-					.orWhere(
-						'use_audited_at',
-						'<',
-						trx.raw(`now() - interval '${TOKEN_USE_AUDIT_WINDOW_MINUTES} minutes'`)
-					)
-			)
-			.update({ use_audited_at: trx.fn.now() });
-		if (claimed === 0) return;
+		if (!(await apiTokens.claimUseAudit(trx, tokenId, TOKEN_USE_AUDIT_WINDOW_MINUTES))) return;
 		await recordEvent(
 			trx,
 			{

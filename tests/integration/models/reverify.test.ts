@@ -2,7 +2,10 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import {
 	addMember,
 	closeTestDb,
+	createModel,
+	createModelVersion,
 	createRequirement,
+	createRun,
 	createSpec,
 	createTeam,
 	createUser,
@@ -13,8 +16,11 @@ import { allMail, expectMailTo, mailTo } from '../../helpers/mail';
 import { enqueueForModelVersion } from '../../../src/lib/server/analyses/queue';
 import { analysisStates } from '../../../src/lib/server/analyses/state';
 import { closeDb } from '../../../src/lib/server/db';
-import { stopBoss } from '../../../src/lib/server/jobs/boss';
-import { queueForEngineVersion } from '../../../src/lib/server/jobs/engine-version';
+import { runJobPolicy, stopBoss } from '../../../src/lib/server/jobs/boss';
+import { processRun } from '../../../src/lib/server/analyses/run';
+import { config } from '../../../src/lib/server/config';
+import { ENGINE_VERSION } from '../../../src/lib/stability/index';
+import { queueForEngineVersion } from '../../../src/lib/server/analyses/engine-version';
 import { verifyChain } from '../../../src/lib/server/audit';
 import {
 	CUBE,
@@ -484,4 +490,51 @@ describe('a worker killed mid-run', () => {
 			resumeHarnessWorker();
 		}
 	}, 90_000);
+});
+
+describe("a run's attempts", () => {
+	// analysis_runs is the one record of a run's status and attempts; the queue only hands jobs out.
+	async function openRun(attempts: number) {
+		const model = await createModel(team.project.id, { name: `attempts ${attempts} ${Date.now()}` });
+		await createModelVersion(model.id, { operatingPoints: points(CUBE) });
+		const r = await requirementOn(model.id, [0, 3]);
+		// Inserted without a job, so the harness worker leaves it alone; as if claimed `attempts` times.
+		const run = await createRun(r, { engineVersion: ENGINE_VERSION, status: 'running' });
+		await testDb()('analysis_runs').where({ id: run.id }).update({ attempts });
+		return { runId: run.id, requirementId: r };
+	}
+
+	it('are counted on the run: the hand-out after the last attempt records an error, never a lost run', async () => {
+		const max = config.runs.maxAttempts;
+		expect(max).toBe(5); // LW_RUN_RETRY_LIMIT is unset in npm test: 4 retries after the first attempt
+		const { runId, requirementId } = await openRun(max);
+		expect(await processRun(runId, 'attempts test')).toBe('error');
+		const row = await testDb()('analysis_runs').where({ id: runId }).first();
+		expect(row.status).toBe('error');
+		expect(row.attempts).toBe(max);
+		expect(row.error).toBe(`No result after ${max} attempts: the worker stopped during each one.`);
+		const event = await testDb()('audit_events')
+			.where({ subject_type: 'requirement', subject_id: String(requirementId), action: 'analysis.error' })
+			.first();
+		expect(event?.after).toMatchObject({ run: runId, status: 'error' });
+		// Handed out once more (a late duplicate job): the finished run is left alone.
+		expect(await processRun(runId, 'attempts test')).toBe('skipped');
+	});
+
+	it('a run with an attempt left is claimed once more and finished', async () => {
+		const max = config.runs.maxAttempts;
+		const { runId } = await openRun(max - 1);
+		expect(await processRun(runId, 'attempts test')).toBe('done');
+		const row = await testDb()('analysis_runs').where({ id: runId }).first();
+		expect(row.attempts).toBe(max);
+		// 1/(s+1)^3 with k1 = 0 certifies k2 < 4 (see ./helpers.ts), so [0, 3] passes.
+		expect(row.verdict).toBe('pass');
+		expect(row.result.certifiedUpper).toBeCloseTo(4, 6);
+	});
+
+	it("the queue's retry limit is only a backstop, far above the run's attempts", () => {
+		// Hand-outs that end before a claim (the database went away mid-batch) use up queue retries but no
+		// attempt; the queue must not give up on a job while its run is still open.
+		expect(runJobPolicy().retryLimit).toBeGreaterThanOrEqual(config.runs.maxAttempts * 10);
+	});
 });

@@ -42,6 +42,12 @@ export const cases: RouteCase[] = [
 		expect: membersOnly(401)
 	},
 	{
+		route: '/api/v1/projects/[key=projectKey]/live',
+		method: 'GET',
+		path: '/api/v1/projects/{key}/live',
+		expect: membersOnly(401)
+	},
+	{
 		route: '/api/v1/projects/[key=projectKey]/trace-matrix.xlsx',
 		method: 'GET',
 		path: '/api/v1/projects/{key}/trace-matrix.xlsx',

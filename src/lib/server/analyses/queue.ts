@@ -1,6 +1,7 @@
 import { ENGINE_VERSION } from '../../stability/index';
 import type { Db } from '../db';
 import { sendRunJobs } from '../jobs/boss';
+import { insertRuns } from './repo';
 
 // Re-verification: every change that can move a verdict (a requirement revision, a specification edit,
 // a model version, a new engine) queues analysis runs in the transaction of the change. A run is
@@ -17,25 +18,18 @@ export interface Trigger {
 }
 
 async function enqueueWhere(trx: Db, trigger: Trigger, where: string, bindings: unknown[]): Promise<number> {
-	// The model version in force: the spec's pinned version, else the model's latest one.
-	// Retired requirements are not re-verified.
-	const r = await trx.raw(
-		`insert into analysis_runs (project_id, requirement_id, requirement_revision, spec_id, model_version_id,
-				model_hash, engine_version, trigger, trigger_ref, triggered_by)
-			select r.project_id, r.id, r.current_revision, s.id, mv.id, mv.content_hash, ?, ?, ?, ?
-			from requirements r
-			join requirement_revisions rr on rr.requirement_id = r.id and rr.revision = r.current_revision
-			join stability_specs s on s.id = r.current_spec_id
-			join models m on m.id = s.model_id
-			join model_versions mv on mv.model_id = m.id
-				and (case when s.model_version_id is null then mv.version = m.latest_version else mv.id = s.model_version_id end)
-			where rr.status <> 'retired' and (${where})
-			order by r.id
-			on conflict (requirement_id, requirement_revision, spec_id, model_version_id, engine_version) do nothing
-			returning id`,
-		[ENGINE_VERSION, trigger.kind, trigger.ref ?? null, trigger.userId ?? null, ...bindings] as never[]
+	const ids = await insertRuns(
+		trx,
+		{
+			engineVersion: ENGINE_VERSION,
+			trigger: trigger.kind,
+			ref: trigger.ref ?? null,
+			userId: trigger.userId ?? null
+		},
+		where,
+		bindings
 	);
-	const ids = (r.rows as { id: number }[]).map((x) => Number(x.id));
+	// One job per new run, in the same transaction: the queue only tells a worker that the run is due.
 	await sendRunJobs(trx, ids);
 	return ids.length;
 }

@@ -1,6 +1,8 @@
 import type { Db } from '../db';
 
-// SQL for analysis runs.
+// All SQL of analysis runs: queuing, the state read, claiming, storing, the verdict-change notices,
+// engine versions, queue health. analysis_runs is the one record of a run's status and attempts (see
+// run.ts); the job queue only carries "run N is due" to a worker.
 
 export interface RunRow {
 	id: number;
@@ -173,4 +175,292 @@ export async function graphRows(db: Db, projectId: number) {
 		>
 	]);
 	return { reqs, links, mods, vers };
+}
+
+// --- Queuing -------------------------------------------------------------------------------------
+
+/**
+ * Insert the runs of the current inputs of the requirements matched by `where` (over r, s, mv), once
+ * per (requirement, revision, specification, model version, engine version). Returns the new run ids.
+ */
+export async function insertRuns(
+	trx: Db,
+	run: { engineVersion: string; trigger: string; ref: string | null; userId: number | null },
+	where: string,
+	bindings: unknown[]
+): Promise<number[]> {
+	// The model version in force: the spec's pinned version, else the model's latest one.
+	// Retired requirements are not re-verified.
+	const r = await trx.raw(
+		`insert into analysis_runs (project_id, requirement_id, requirement_revision, spec_id, model_version_id,
+				model_hash, engine_version, trigger, trigger_ref, triggered_by)
+			select r.project_id, r.id, r.current_revision, s.id, mv.id, mv.content_hash, ?, ?, ?, ?
+			from requirements r
+			join requirement_revisions rr on rr.requirement_id = r.id and rr.revision = r.current_revision
+			join stability_specs s on s.id = r.current_spec_id
+			join models m on m.id = s.model_id
+			join model_versions mv on mv.model_id = m.id
+				and (case when s.model_version_id is null then mv.version = m.latest_version else mv.id = s.model_version_id end)
+			where rr.status <> 'retired' and (${where})
+			order by r.id
+			on conflict (requirement_id, requirement_revision, spec_id, model_version_id, engine_version) do nothing
+			returning id`,
+		[run.engineVersion, run.trigger, run.ref, run.userId, ...bindings] as never[]
+	);
+	return (r.rows as { id: number }[]).map((x) => Number(x.id));
+}
+
+// --- The analysis state of requirements (state.ts words it) --------------------------------------
+
+export interface StateRow {
+	id: number;
+	spec_id: number | null;
+	mv_id: number | null;
+	run_id: number | null;
+	status: string | null;
+	verdict: string | null;
+	result: unknown;
+	finished_at: Date | null;
+}
+
+/** Each requirement with its current inputs and the run of exactly those inputs under this engine. */
+export async function stateRows(
+	db: Db,
+	requirementIds: number[],
+	engineVersion: string
+): Promise<StateRow[]> {
+	return (
+		await db.raw(
+			`select r.id, s.id as spec_id, mv.id as mv_id, ar.id as run_id, ar.status, ar.verdict, ar.result, ar.finished_at
+			from requirements r
+			left join stability_specs s on s.id = r.current_spec_id
+			left join models m on m.id = s.model_id
+			left join model_versions mv on mv.model_id = m.id
+				and (case when s.model_version_id is null then mv.version = m.latest_version else mv.id = s.model_version_id end)
+			left join analysis_runs ar on ar.requirement_id = r.id and ar.requirement_revision = r.current_revision
+				and ar.spec_id = s.id and ar.model_version_id = mv.id and ar.engine_version = ?
+			where r.id = any(?::bigint[])`,
+			[engineVersion, requirementIds] as never[]
+		)
+	).rows;
+}
+
+// --- Claiming and storing (run.ts) ---------------------------------------------------------------
+
+/**
+ * The worker's transactions commit asynchronously (synchronous_commit off): a result is re-derivable,
+ * and a job's completion commits in the same transaction as its result, so after a crash of the
+ * database server either both are there or the job is still open and the run is done again.
+ */
+export async function relaxed(trx: Db): Promise<void> {
+	await trx.raw('set local synchronous_commit = off');
+}
+
+/** The columns a finished run hands to the audit event and the notices. */
+export const FINISHED_COLUMNS = [
+	'id',
+	'trigger_ref',
+	'project_id',
+	'requirement_id',
+	'requirement_revision',
+	'spec_id',
+	'model_version_id',
+	'model_hash',
+	'engine_version',
+	'status',
+	'verdict',
+	'worst_point',
+	'output_hash',
+	'error',
+	'duration_ms'
+] as const;
+export type FinishedRow = Pick<RunRow, (typeof FINISHED_COLUMNS)[number]>;
+
+/** Lock the runs (in id order) and read their status and attempts. */
+export const lockRuns = (trx: Db, ids: number[]) =>
+	trx('analysis_runs')
+		.whereIn('id', ids)
+		.forUpdate()
+		.orderBy('id')
+		.select('id', 'status', 'attempts') as Promise<
+		{ id: number; status: RunRow['status']; attempts: number }[]
+	>;
+
+/** Finish, as errors, runs that used up their attempts without a result. */
+export const finishExhausted = (trx: Db, ids: number[]) =>
+	trx('analysis_runs')
+		.whereIn('id', ids)
+		.update({
+			status: 'error',
+			error: trx.raw(`'No result after ' || attempts || ' attempts: the worker stopped during each one.'`),
+			finished_at: trx.fn.now()
+		})
+		.returning([...FINISHED_COLUMNS]) as Promise<FinishedRow[]>;
+
+export interface ClaimedRun {
+	id: number;
+	trigger_ref: string | null;
+	check: unknown;
+	required_margin: number | null;
+	operating_points: string[] | null;
+	content: { operatingPoints: { label: string; model: never }[] };
+}
+
+/** Claim the runs (one more attempt each) and read their inputs. */
+export async function claimRuns(trx: Db, ids: number[]): Promise<ClaimedRun[]> {
+	await trx('analysis_runs')
+		.whereIn('id', ids)
+		.update({ status: 'running', attempts: trx.raw('attempts + 1'), started_at: trx.fn.now() });
+	return (
+		await trx.raw(
+			`select ar.id, ar.trigger_ref, s."check", s.required_margin, s.operating_points, mv.content
+			from analysis_runs ar
+			join stability_specs s on s.id = ar.spec_id
+			join model_versions mv on mv.id = ar.model_version_id
+			where ar.id = any(?::bigint[]) order by ar.id`,
+			[ids]
+		)
+	).rows;
+}
+
+/** Store a claimed run's outcome; nothing when another attempt finished it first. */
+export const storeOutcome = (trx: Db, id: number, outcome: Record<string, unknown>) =>
+	trx('analysis_runs')
+		.where({ id, status: 'running' })
+		.update({ ...outcome, finished_at: trx.fn.now() })
+		.returning([...FINISHED_COLUMNS])
+		.then((rows) => rows[0] as FinishedRow | undefined);
+
+// --- Verdict-change notices (notices.ts) ---------------------------------------------------------
+
+// Two-key advisory lock namespace (the audit chain uses the one-key form).
+const NOTICE_LOCK = 7_431_003;
+
+/** Serialise the finishers of one change: the last one sees every other run committed. */
+export async function lockChange(trx: Db, ref: string): Promise<void> {
+	await trx.raw('select pg_advisory_xact_lock(?, hashtext(?))', [NOTICE_LOCK, ref]);
+}
+
+export async function openRunsOfChange(trx: Db, triggerRef: string): Promise<number> {
+	const open = await trx('analysis_runs')
+		.where({ trigger_ref: triggerRef })
+		.whereIn('status', ['queued', 'running'])
+		.count<{ count: string | number }[]>('* as count');
+	return Number(open[0].count);
+}
+
+/** Claim the notice of a change; false when it was sent already. */
+export async function claimNotice(trx: Db, ref: string): Promise<boolean> {
+	const claimed = await trx.raw(
+		`insert into analysis_notices (trigger_ref, changes, mails) values (?, 0, 0) on conflict do nothing returning trigger_ref`,
+		[ref]
+	);
+	return claimed.rows.length > 0;
+}
+
+export const recordNotice = (trx: Db, ref: string, counts: { changes: number; mails: number }) =>
+	trx('analysis_notices').where({ trigger_ref: ref }).update(counts);
+
+export interface ChangeRun {
+	id: number;
+	requirement_id: number;
+	status: string;
+	verdict: string | null;
+	worst_point: string | null;
+	identifier: string;
+	title: string;
+	req_owner: number | null;
+	model_owner: number | null;
+	model_name: string;
+	model_version: number;
+	project_key: string;
+	trigger: string;
+	prev_status: string | null;
+	prev_verdict: string | null;
+}
+
+/**
+ * Each run of a change (its trigger_ref, or the one run) with the outcome before it: the requirement's
+ * newest finished run outside this change that finished no later than it.
+ */
+export async function changeRuns(
+	trx: Db,
+	change: { triggerRef: string } | { runId: number }
+): Promise<ChangeRun[]> {
+	const byRef = 'triggerRef' in change;
+	return (
+		await trx.raw(
+			`with g as (select * from analysis_runs where ${byRef ? 'trigger_ref = ?' : 'id = ?'})
+			select g.id, g.requirement_id, g.status, g.verdict, g.worst_point, g.trigger,
+				r.identifier, rr.title, rr.owner_id as req_owner, m.owner_id as model_owner, m.name as model_name,
+				mv.version as model_version, p.key as project_key, prev.status as prev_status, prev.verdict as prev_verdict
+			from g
+			join requirements r on r.id = g.requirement_id
+			join requirement_revisions rr on rr.requirement_id = r.id and rr.revision = r.current_revision
+			join model_versions mv on mv.id = g.model_version_id
+			join models m on m.id = mv.model_id
+			join projects p on p.id = g.project_id
+			left join lateral (
+				select x.status, x.verdict from analysis_runs x
+				where x.requirement_id = g.requirement_id and x.status in ('done', 'error')
+					and x.id not in (select id from g) and x.finished_at <= g.finished_at
+				order by x.finished_at desc, x.id desc limit 1
+			) prev on true
+			order by r.number`,
+			[byRef ? change.triggerRef : change.runId]
+		)
+	).rows;
+}
+
+/** The people a notice goes to (enabled accounts only). */
+export const noticeRecipients = (trx: Db, userIds: number[]) =>
+	trx('users')
+		.whereIn('id', userIds)
+		.where({ disabled: false })
+		.select('id', 'email', 'display_name') as Promise<{ id: number; email: string; display_name: string }[]>;
+
+// --- Engine versions (engine-version.ts) ---------------------------------------------------------
+
+const ENGINE_LOCK = 7_431_004;
+
+/** Serialise start-ups that record engine versions. */
+export async function lockEngineVersions(trx: Db): Promise<void> {
+	await trx.raw('select pg_advisory_xact_lock(?)', [ENGINE_LOCK]);
+}
+
+export const engineVersionSeen = async (trx: Db, version: string) =>
+	!!(await trx('engine_versions_seen').where({ engine_version: version }).first());
+
+export const recordEngineVersion = (trx: Db, version: string, runsQueued: number) =>
+	trx('engine_versions_seen').insert({ engine_version: version, runs_queued: runsQueued });
+
+// --- Reads for pages and health ------------------------------------------------------------------
+
+/** The runs that used one model version, one row per requirement (its newest run with that version). */
+export async function runsOfModelVersion(db: Db, modelVersionId: number) {
+	const r = await db.raw(
+		`select distinct on (ar.requirement_id) ar.id, ar.requirement_id, r.identifier, ar.status, ar.verdict, ar.worst_point, ar.finished_at
+		from analysis_runs ar join requirements r on r.id = ar.requirement_id
+		where ar.model_version_id = ?
+		order by ar.requirement_id, ar.queued_at desc, ar.id desc`,
+		[modelVersionId]
+	);
+	return r.rows as {
+		id: number;
+		requirement_id: number;
+		identifier: string;
+		status: string;
+		verdict: string | null;
+		worst_point: string | null;
+		finished_at: Date | null;
+	}[];
+}
+
+/** How many runs wait for a worker, and for how long the oldest has waited (seconds). */
+export async function waitingRuns(db: Db): Promise<{ waiting: number; oldest: number }> {
+	const r = await db.raw(
+		`select count(*)::int as waiting, coalesce(extract(epoch from now() - min(queued_at)), 0)::int as oldest
+		from analysis_runs where status = 'queued'`
+	);
+	return r.rows[0] as { waiting: number; oldest: number };
 }

@@ -1,7 +1,15 @@
 import { ENGINE_VERSION } from '../../stability/index';
 import { db } from '../db';
 import { ServiceError } from '../errors';
-import { currentSpec, graphRows, requirementProject, runProject, runs, type RunRow } from './repo';
+import {
+	currentSpec,
+	graphRows,
+	requirementProject,
+	runProject,
+	runs,
+	runsOfModelVersion,
+	type RunRow
+} from './repo';
 import { analysisStates, type AnalysisStateInfo } from './state';
 
 // Reading analysis runs: what the requirement page, the API and the trace graph show.
@@ -96,26 +104,7 @@ export async function getRun(runId: number) {
 
 /** The runs that used one model version, one row per requirement (its newest run with that version). */
 export async function runsForModelVersion(modelVersionId: number) {
-	const rows = await db()
-		.raw(
-			`select distinct on (ar.requirement_id) ar.id, ar.requirement_id, r.identifier, ar.status, ar.verdict, ar.worst_point, ar.finished_at
-			from analysis_runs ar join requirements r on r.id = ar.requirement_id
-			where ar.model_version_id = ?
-			order by ar.requirement_id, ar.queued_at desc, ar.id desc`,
-			[modelVersionId]
-		)
-		.then(
-			(r) =>
-				r.rows as {
-					id: number;
-					requirement_id: number;
-					identifier: string;
-					status: string;
-					verdict: string | null;
-					worst_point: string | null;
-					finished_at: Date | null;
-				}[]
-		);
+	const rows = await runsOfModelVersion(db(), modelVersionId);
 	return rows.map((r) => ({
 		runId: Number(r.id),
 		requirementId: Number(r.requirement_id),

@@ -1,5 +1,6 @@
 import { ENGINE_VERSION } from '../../stability/index';
 import type { Db } from '../db';
+import { stateRows } from './repo';
 
 // A requirement's analysis state, from its current inputs (current revision x current specification x
 // model version in force x this engine version) and the run of exactly those inputs.
@@ -35,29 +36,7 @@ export async function analysisStates(
 	const out = new Map<number, AnalysisStateInfo>();
 	const ids = [...new Set(requirementIds.map(Number))].filter((n) => Number.isInteger(n));
 	if (ids.length === 0) return out;
-	const rows: {
-		id: number;
-		spec_id: number | null;
-		mv_id: number | null;
-		run_id: number | null;
-		status: string | null;
-		verdict: string | null;
-		result: unknown;
-		finished_at: Date | null;
-	}[] = (
-		await db.raw(
-			`select r.id, s.id as spec_id, mv.id as mv_id, ar.id as run_id, ar.status, ar.verdict, ar.result, ar.finished_at
-			from requirements r
-			left join stability_specs s on s.id = r.current_spec_id
-			left join models m on m.id = s.model_id
-			left join model_versions mv on mv.model_id = m.id
-				and (case when s.model_version_id is null then mv.version = m.latest_version else mv.id = s.model_version_id end)
-			left join analysis_runs ar on ar.requirement_id = r.id and ar.requirement_revision = r.current_revision
-				and ar.spec_id = s.id and ar.model_version_id = mv.id and ar.engine_version = ?
-			where r.id = any(?::bigint[])`,
-			[ENGINE_VERSION, ids] as never[]
-		)
-	).rows;
+	const rows = await stateRows(db, ids, ENGINE_VERSION);
 	for (const r of rows) {
 		const id = Number(r.id);
 		if (r.spec_id == null || r.mv_id == null) {

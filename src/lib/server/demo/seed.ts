@@ -1,6 +1,6 @@
 import type { Knex } from 'knex';
 import type { Actor } from '../audit';
-import { processRun } from '../jobs/run';
+import { processRun } from '../analyses/run';
 import { createModel, publishVersion } from '../models/service';
 import { hashPassword } from '../passwords';
 import { addLink, createRequirement, setSpecification } from '../requirements/service';

@@ -2,7 +2,7 @@ import { recordEvent, type Actor } from '../audit';
 import { db } from '../db';
 import { ServiceError } from '../errors';
 import { hashToken, newToken } from '../tokens';
-import { memberships, projects, type UserRow } from './repo';
+import { apiTokens, memberships, projects, type UserRow } from './repo';
 import type { Role } from './roles';
 
 // Personal API tokens for pipelines. The plain token is returned once and never stored; it is
@@ -19,11 +19,7 @@ export interface TokenView {
 }
 
 export async function listTokens(user: UserRow): Promise<TokenView[]> {
-	const rows = await db()('api_tokens as t')
-		.join('projects as p', 'p.id', 't.project_id')
-		.where('t.user_id', user.id)
-		.orderBy('t.created_at', 'desc')
-		.select('t.id', 't.label', 'p.key', 't.role', 't.created_at', 't.last_used_at', 't.revoked_at');
+	const rows = await apiTokens.ofUser(db(), user.id);
 	return rows.map((r) => ({
 		id: r.id,
 		label: r.label,
@@ -62,34 +58,29 @@ export async function createToken(
 	}
 	const plain = `lw_${newToken().token}`;
 	const id = await db().transaction(async (trx) => {
-		const [row] = await trx('api_tokens')
-			.insert({
-				user_id: user.id,
-				project_id: project.id,
-				role: input.role,
-				label: input.label,
-				token_hash: hashToken(plain)
-			})
-			.returning('id');
+		const tokenId = await apiTokens.insert(trx, {
+			user_id: user.id,
+			project_id: project.id,
+			role: input.role,
+			label: input.label,
+			token_hash: hashToken(plain)
+		});
 		await recordEvent(trx, actor, {
 			projectId: project.id,
 			action: 'api-token.create',
 			subjectType: 'api-token',
-			subjectId: row.id,
+			subjectId: tokenId,
 			after: { label: input.label, role: input.role }
 		});
-		return row.id as number;
+		return tokenId;
 	});
 	return { token: plain, id };
 }
 
 export async function revokeToken(actor: Actor, user: UserRow, id: number): Promise<void> {
 	await db().transaction(async (trx) => {
-		const n = await trx('api_tokens')
-			.where({ id, user_id: user.id })
-			.whereNull('revoked_at')
-			.update({ revoked_at: trx.fn.now() });
-		if (n === 0) throw new ServiceError(404, 'No such active token of yours.', { id: 'Not found.' });
+		if (!(await apiTokens.revoke(trx, id, user.id)))
+			throw new ServiceError(404, 'No such active token of yours.', { id: 'Not found.' });
 		await recordEvent(trx, actor, { action: 'api-token.revoke', subjectType: 'api-token', subjectId: id });
 	});
 }

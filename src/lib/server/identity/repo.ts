@@ -140,3 +140,86 @@ export const signInAttempts = {
 		return Number(row[0]?.count ?? 0);
 	}
 };
+
+/** The enabled user with every project they belong to (and their role there), in one round trip. */
+export async function identityRow(db: Db, id: number) {
+	const { rows } = await db.raw(
+		`select u.*, coalesce((
+		   select json_agg(json_build_object('id', p.id, 'key', p.key, 'name', p.name,
+		            'description', p.description, 'role', m.role) order by p.key)
+		     from memberships m join projects p on p.id = m.project_id
+		    where m.user_id = u.id), '[]'::json) as memberships
+		   from users u where u.id = ? and not u.disabled`,
+		[id]
+	);
+	return rows[0] as
+		| (UserRow & {
+				memberships: { id: number; key: string; name: string; description: string; role: string }[];
+		  })
+		| undefined;
+}
+
+export interface ApiTokenRow {
+	id: number;
+	label: string;
+	key: string;
+	role: Role;
+	created_at: Date;
+	last_used_at: Date | null;
+	revoked_at: Date | null;
+}
+
+/** Personal API tokens: stored hashed, scoped to one project and one role. */
+export const apiTokens = {
+	ofUser: (db: Db, userId: number) =>
+		db('api_tokens as t')
+			.join('projects as p', 'p.id', 't.project_id')
+			.where('t.user_id', userId)
+			.orderBy('t.created_at', 'desc')
+			.select(
+				't.id',
+				't.label',
+				'p.key',
+				't.role',
+				't.created_at',
+				't.last_used_at',
+				't.revoked_at'
+			) as Promise<ApiTokenRow[]>,
+	insert: async (
+		db: Db,
+		row: { user_id: number; project_id: number; role: Role; label: string; token_hash: string }
+	) => Number((await db('api_tokens').insert(row).returning('id'))[0].id),
+	/** Revoke one active token of the user; false when there is none. */
+	revoke: async (db: Db, id: number, userId: number) =>
+		(await db('api_tokens')
+			.where({ id, user_id: userId })
+			.whereNull('revoked_at')
+			.update({ revoked_at: db.fn.now() })) > 0,
+	/** The active token with this hash and its enabled owner. */
+	byHash: (db: Db, tokenHash: string) =>
+		db('api_tokens as t')
+			.join('users as u', 'u.id', 't.user_id')
+			.where('t.token_hash', tokenHash)
+			.whereNull('t.revoked_at')
+			.where('u.disabled', false)
+			.first(
+				'u.*',
+				't.id as token_id',
+				't.project_id as token_project_id',
+				't.role as token_role'
+			) as Promise<(UserRow & { token_id: number; token_project_id: number; token_role: Role }) | undefined>,
+	touch: (db: Db, id: number) => db('api_tokens').where({ id }).update({ last_used_at: db.fn.now() }),
+	/**
+	 * Mark the token's use as audited unless that happened within the last `minutes`; true when this
+	 * call marked it (the caller then writes the audit event).
+	 */
+	claimUseAudit: async (db: Db, id: number, minutes: number) =>
+		(await db('api_tokens')
+			.where({ id })
+			.where((q) =>
+				q
+					.whereNull('use_audited_at')
+					.orWhere('use_audited_at', '<', db.raw(`now() - (? || ' minutes')::interval`, [String(minutes)]))
+			)
+			.update({ use_audited_at: db.fn.now() })) > 0
+};

@@ -7,6 +7,7 @@ import { enqueueMail, kickMail } from '../mail';
 import { dummyHash, hashPassword, verifyPassword } from '../passwords';
 import { hashToken, newToken } from '../tokens';
 import {
+	identityRow,
 	invitations,
 	memberships,
 	passwordResets,
@@ -90,17 +91,9 @@ export interface MemberOf {
 export async function activeIdentity(
 	id: number
 ): Promise<{ user: UserRow; memberships: MemberOf[] } | undefined> {
-	const { rows } = await db().raw(
-		`select u.*, coalesce((
-		   select json_agg(json_build_object('id', p.id, 'key', p.key, 'name', p.name,
-		            'description', p.description, 'role', m.role) order by p.key)
-		     from memberships m join projects p on p.id = m.project_id
-		    where m.user_id = u.id), '[]'::json) as memberships
-		   from users u where u.id = ? and not u.disabled`,
-		[id]
-	);
-	if (!rows.length) return undefined;
-	const { memberships, ...user } = rows[0];
+	const row = await identityRow(db(), id);
+	if (!row) return undefined;
+	const { memberships, ...user } = row;
 	return { user: user as UserRow, memberships: memberships as MemberOf[] };
 }
 

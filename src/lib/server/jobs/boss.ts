@@ -2,26 +2,30 @@ import PgBoss from 'pg-boss';
 import { config } from '../config';
 import type { Db } from '../db';
 
-// The job queue (pg-boss, PostgreSQL-backed). The web app only inserts jobs, inside the transaction of
-// the change that caused them; the worker (scripts/worker.ts) fetches and runs them.
+// The job queue (pg-boss, PostgreSQL-backed): wiring only. A job says "analysis run N is due"; the web
+// app inserts it inside the transaction of the change that queued the run, a worker (scripts/worker.ts)
+// fetches it, and the job is completed in the transaction that stores the run's outcome. What a run
+// is (its status and attempts) lives in analysis_runs alone (analyses/run.ts).
 
 export const RUN_QUEUE = 'analysis-run';
 export const BOSS_SCHEMA = 'pgboss';
 /** NOTIFY channel: wakes idle workers when runs are queued (delivered when the queuing transaction commits). */
 export const RUNS_CHANNEL = 'lw_analysis_runs';
 
-function int(name: string, fallback: number): number {
-	const n = Number(process.env[name]);
-	return Number.isFinite(n) && n > 0 ? n : fallback;
-}
-
-/** Retry and expiry of one analysis job. A crashed worker's job expires and is retried by another. */
+/**
+ * How the queue hands a job out again. A worker that stops mid-run leaves its job active until it
+ * expires; the queue then offers it again after the retry delay. The retry limit is not the run's
+ * attempt limit (config.runs.maxAttempts, counted on the run): it is a backstop far above it, so the
+ * queue keeps offering a job until the run's record finishes it (as an error once its attempts are used
+ * up), also when hand-outs end before a claim (the database went away mid-batch).
+ */
 export function runJobPolicy() {
+	const runs = config.runs;
 	return {
-		retryLimit: int('LW_RUN_RETRY_LIMIT', 4),
-		retryDelay: int('LW_RUN_RETRY_DELAY_SECONDS', 1),
+		retryLimit: Math.max(100, runs.maxAttempts * 20),
+		retryDelay: runs.retryDelaySeconds,
 		retryBackoff: false,
-		expireInSeconds: int('LW_RUN_EXPIRE_SECONDS', 20)
+		expireInSeconds: runs.expireSeconds
 	};
 }
 
@@ -42,7 +46,7 @@ export function getBoss(as: 'producer' | 'worker' = 'producer'): Promise<PgBoss>
 			max: as === 'worker' ? 4 : 2,
 			supervise: as === 'worker',
 			schedule: false,
-			maintenanceIntervalSeconds: int('LW_QUEUE_MAINTENANCE_SECONDS', 2)
+			maintenanceIntervalSeconds: config.runs.queueMaintenanceSeconds
 		});
 		boss.on('error', (e) => console.error(`[queue:${role}]`, (e as Error)?.message ?? e));
 		await boss.start();

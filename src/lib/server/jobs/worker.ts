@@ -2,12 +2,13 @@ import pg from 'pg';
 import { config } from '../config';
 import { startMailLoop } from '../mail';
 import { RUN_QUEUE, RUNS_CHANNEL, completeRunJobs, failRunJobs, getBoss, stopBoss } from './boss';
-import { queueForEngineVersion } from './engine-version';
-import { processRuns } from './run';
+import { queueForEngineVersion } from '../analyses/engine-version';
+import { processRuns } from '../analyses/run';
 
-// The analysis worker: fetches run jobs from pg-boss and executes them one at a time. Several workers
-// (processes, machines) may run side by side; pg-boss hands each job to one of them. A worker that dies
-// leaves its job active until it expires; pg-boss then retries it and another worker completes it.
+// The analysis worker's queue wiring: fetches run jobs from pg-boss and hands them to analyses/run.ts,
+// which claims, computes and stores each run. Several workers (processes, machines) may run side by
+// side; pg-boss hands each job to one of them. A worker that dies leaves its job active until it
+// expires; pg-boss then offers it again and another worker completes it.
 
 export interface WorkerHandle {
 	stop(): Promise<void>;

@@ -165,3 +165,7 @@ export function possibleOwners(db: Db, projectId: number) {
 		.select('u.id', 'u.display_name', 'u.email')
 		.orderBy('u.display_name') as Promise<{ id: number; display_name: string; email: string }[]>;
 }
+
+/** A site administrator with an enabled account (may own a model without being an analyst). */
+export const activeSiteAdmin = async (db: Db, userId: number) =>
+	!!(await db('users').where({ id: userId, site_admin: true, disabled: false }).first('id'));

@@ -6,6 +6,7 @@ import { enqueueForModelVersion } from '../analyses/queue';
 import { analysisStates } from '../analyses/state';
 import { users } from '../identity/repo';
 import {
+	activeSiteAdmin,
 	models,
 	possibleOwners,
 	requirementsUsing,
@@ -81,9 +82,7 @@ export async function createModel(actor: Actor, projectId: number, raw: unknown)
 		return db().transaction(async (trx) => {
 			if (ownerId !== null) {
 				const owners = await possibleOwners(trx, projectId);
-				const admin = await trx('users')
-					.where({ id: ownerId, site_admin: true, disabled: false })
-					.first('id');
+				const admin = await activeSiteAdmin(trx, ownerId);
 				if (!owners.some((o) => Number(o.id) === Number(ownerId)) && !admin)
 					throw new ServiceError(400, 'The owner must be an analyst of this project.', {
 						ownerId: 'Choose an analyst of this project.'

@@ -1,6 +1,7 @@
 import { requireRole } from '$lib/server/auth';
 import { LEVELS, STATUSES, listFilters } from '$lib/server/requirements/schema';
 import { countRequirements, listRequirements, projectMembers } from '$lib/server/requirements/service';
+import { projectStamp } from '$lib/server/live/service';
 import type { PageServerLoad } from './$types';
 
 export const load = (async (event) => {
@@ -12,6 +13,9 @@ export const load = (async (event) => {
 		owner: sp.get('owner') || undefined,
 		q: sp.get('q') || undefined
 	});
+	// The stamp is read before the rows: the page re-reads when the live stamp differs from it.
+	event.depends('lw:requirement-list');
+	const live = await projectStamp(project.id);
 	const [rows, total, members] = await Promise.all([
 		listRequirements(project.id, filters),
 		countRequirements(project.id),
@@ -26,6 +30,7 @@ export const load = (async (event) => {
 			owner: filters.owner ? String(filters.owner) : '',
 			q: filters.q ?? ''
 		},
+		live: live.stamp,
 		rows,
 		total,
 		members: members.map((m) => ({ id: m.id, name: m.name })),

@@ -1,52 +1,33 @@
 import type { Knex } from 'knex';
 import { ModelInputError } from '../../stability/index';
 import { lockChain, recordEvent, type Actor } from '../audit';
-import { computeRun } from '../analyses/compute';
-import type { RunRow } from '../analyses/repo';
+import { config } from '../config';
 import { db } from '../db';
+import { completeRunJobs } from '../jobs/boss';
 import { kickMail } from '../mail';
+import { computeRun } from './compute';
 import { afterRunFinished } from './notices';
-import { completeRunJobs, runJobPolicy } from './boss';
+import {
+	claimRuns,
+	finishExhausted,
+	lockRuns,
+	relaxed,
+	storeOutcome,
+	type ClaimedRun,
+	type FinishedRow
+} from './repo';
 
-// Execute analysis runs. Safe to call twice for the same run (a retried job): a finished run is left
-// alone, and only the first finisher writes the outcome.
+// Execute analysis runs: claim, compute, store. Safe to call twice for the same run (a job handed out
+// again): a finished run is left alone, and only the first finisher writes the outcome.
+//
+// One record of a run's life: its analysis_runs row. Its status (queued -> running -> done | error) and
+// its attempts (one per claim) are written here and nowhere else, and they alone decide whether a run
+// is tried again: a run whose attempts are used up is finished as an error on the next hand-out. The job
+// queue (pg-boss, jobs/boss.ts) is wiring: a job says "run N is due" and is completed in the transaction
+// that stores N's outcome; its own retry state only makes it hand the job out again after a worker
+// stopped, and its retry limit is a backstop far above the attempts (see jobs/boss.ts).
 
 export type RunOutcome = 'done' | 'error' | 'skipped';
-
-function holdMs(): number {
-	// Fault-injection aid for the crash test (tests/integration/models/reverify.test.ts): wait this long
-	// after claiming runs, so the test can kill the worker mid-run. Unset in production.
-	const n = Number(process.env.LW_WORKER_HOLD_MS);
-	return Number.isFinite(n) && n > 0 ? n : 0;
-}
-
-/**
- * The worker's transactions commit asynchronously (synchronous_commit off): a result is re-derivable,
- * and a job's completion commits in the same transaction as its result, so after a crash of the
- * database server either both are there or the job is still open and the run is done again.
- */
-async function relaxed(trx: Knex.Transaction) {
-	await trx.raw('set local synchronous_commit = off');
-}
-
-const FINISHED_COLUMNS = [
-	'id',
-	'trigger_ref',
-	'project_id',
-	'requirement_id',
-	'requirement_revision',
-	'spec_id',
-	'model_version_id',
-	'model_hash',
-	'engine_version',
-	'status',
-	'verdict',
-	'worst_point',
-	'output_hash',
-	'error',
-	'duration_ms'
-] as const;
-type FinishedRow = Pick<RunRow, (typeof FINISHED_COLUMNS)[number]>;
 
 /**
  * The verdict goes into the audit trail in the transaction that stores it, filed under the requirement
@@ -76,17 +57,8 @@ async function recordRunFinished(trx: Knex.Transaction, actor: Actor, r: Finishe
 
 export interface RunJob {
 	runId: number;
-	/** The pg-boss job: completed in the transaction that stores the run's result. */
+	/** The queue's job: completed in the transaction that stores the run's result. */
 	jobId?: string;
-}
-
-interface Claimed {
-	id: number;
-	trigger_ref: string | null;
-	check: unknown;
-	required_margin: number | null;
-	operating_points: string[] | null;
-	content: { operatingPoints: { label: string; model: never }[] };
 }
 
 /**
@@ -99,7 +71,7 @@ export async function processRuns(
 ): Promise<Map<number, RunOutcome>> {
 	const out = new Map<number, RunOutcome>();
 	if (batch.length === 0) return out;
-	const maxAttempts = runJobPolicy().retryLimit + 1;
+	const { maxAttempts, holdMs } = config.runs;
 	const jobOf = new Map(batch.map((j) => [Number(j.runId), j.jobId]));
 	const complete = async (trx: Knex.Transaction, runIds: number[]) => {
 		const ids = runIds.map((id) => jobOf.get(id)).filter((x): x is string => !!x);
@@ -112,11 +84,7 @@ export async function processRuns(
 		await relaxed(trx);
 		// Runs whose attempts are used up are finished here, with an audit event: the chain first.
 		await lockChain(trx);
-		const rows: { id: number; status: string; attempts: number }[] = await trx('analysis_runs')
-			.whereIn('id', ids)
-			.forUpdate()
-			.orderBy('id')
-			.select('id', 'status', 'attempts');
+		const rows = await lockRuns(trx, ids);
 		const present = new Set(rows.map((r) => Number(r.id)));
 		const settled = [
 			...ids.filter((id) => !present.has(id)),
@@ -128,17 +96,7 @@ export async function processRuns(
 		let mails = 0;
 		if (exhausted.length) {
 			// Every attempt so far ended without a result (the worker stopped): record it, never lose it.
-			const done = await trx('analysis_runs')
-				.whereIn('id', exhausted)
-				.update({
-					status: 'error',
-					error: trx.raw(
-						`'No result after ' || attempts || ' attempts: the worker stopped during each one.'`
-					),
-					finished_at: trx.fn.now()
-				})
-				.returning([...FINISHED_COLUMNS]);
-			for (const d of done) {
+			for (const d of await finishExhausted(trx, exhausted)) {
 				await recordRunFinished(trx, actor, d);
 				mails += await afterRunFinished(trx, d);
 			}
@@ -146,24 +104,13 @@ export async function processRuns(
 		await complete(trx, [...settled, ...exhausted]);
 		for (const id of settled) out.set(id, 'skipped');
 		for (const id of exhausted) out.set(id, 'error');
-		if (toClaim.length === 0) return { claimed: [] as Claimed[], mails };
-		await trx('analysis_runs')
-			.whereIn('id', toClaim)
-			.update({ status: 'running', attempts: trx.raw('attempts + 1'), started_at: trx.fn.now() });
-		const claimed: Claimed[] = (
-			await trx.raw(
-				`select ar.id, ar.trigger_ref, s."check", s.required_margin, s.operating_points, mv.content
-				from analysis_runs ar
-				join stability_specs s on s.id = ar.spec_id
-				join model_versions mv on mv.id = ar.model_version_id
-				where ar.id = any(?::bigint[]) order by ar.id`,
-				[toClaim]
-			)
-		).rows;
-		return { claimed, mails };
+		if (toClaim.length === 0) return { claimed: [] as ClaimedRun[], mails };
+		return { claimed: await claimRuns(trx, toClaim), mails };
 	});
 	if (claim.mails) kickMail();
-	if (claim.claimed.length && holdMs()) await new Promise((r) => setTimeout(r, holdMs()));
+	// Fault-injection aid for the crash test (tests/integration/models/reverify.test.ts): wait after
+	// claiming, so the test can kill the worker mid-run. Unset in production.
+	if (claim.claimed.length && holdMs) await new Promise((r) => setTimeout(r, holdMs));
 
 	for (const run of claim.claimed) {
 		const runId = Number(run.id);
@@ -198,10 +145,7 @@ export async function processRuns(
 			await relaxed(trx);
 			await lockChain(trx);
 			await complete(trx, [runId]);
-			const [finished] = await trx('analysis_runs')
-				.where({ id: runId, status: 'running' })
-				.update({ ...update, finished_at: trx.fn.now(), duration_ms: duration })
-				.returning([...FINISHED_COLUMNS]);
+			const finished = await storeOutcome(trx, runId, { ...update, duration_ms: duration });
 			// Another attempt finished first: keep its result.
 			if (!finished) return 0;
 			await recordRunFinished(trx, actor, finished);

@@ -2,6 +2,14 @@ import { CAUTION_TEXT } from '../../caution';
 import type { Db } from '../db';
 import { config } from '../config';
 import { enqueueMail } from '../mail';
+import {
+	changeRuns,
+	claimNotice,
+	lockChange,
+	noticeRecipients,
+	openRunsOfChange,
+	recordNotice
+} from './repo';
 
 // Verdict-change mail. A change (one publish, one specification edit...) queues many runs; when the last
 // of them finishes, every requirement whose outcome moved is collected and each person concerned (the
@@ -15,9 +23,6 @@ export const OUTCOME_WORDS: Record<Outcome, string> = {
 	inconclusive: 'inconclusive',
 	error: 'analysis error'
 };
-
-// Two-key advisory lock namespace (the audit chain uses the one-key form).
-const NOTICE_LOCK = 7_431_003;
 
 interface FinishedRun {
 	id: number;
@@ -36,61 +41,15 @@ function outcomeOf(r: { status: string; verdict: string | null }): Outcome | nul
  */
 export async function afterRunFinished(trx: Db, run: FinishedRun): Promise<number> {
 	const ref = run.trigger_ref ?? `run:${run.id}`;
-	// Serialise the finishers of one change: the last one sees every other run committed.
-	await trx.raw('select pg_advisory_xact_lock(?, hashtext(?))', [NOTICE_LOCK, ref]);
-	if (run.trigger_ref) {
-		const open = await trx('analysis_runs')
-			.where({ trigger_ref: run.trigger_ref })
-			.whereIn('status', ['queued', 'running'])
-			.count<{ count: string | number }[]>('* as count');
-		if (Number(open[0].count) > 0) return 0;
-	}
-	const claimed = await trx.raw(
-		`insert into analysis_notices (trigger_ref, changes, mails) values (?, 0, 0) on conflict do nothing returning trigger_ref`,
-		[ref]
-	);
-	if (claimed.rows.length === 0) return 0;
+	// The finishers of one change take turns: the last one sees every other run committed.
+	await lockChange(trx, ref);
+	if (run.trigger_ref && (await openRunsOfChange(trx, run.trigger_ref)) > 0) return 0;
+	if (!(await claimNotice(trx, ref))) return 0;
 
-	// Each run of the change with the outcome before it: the requirement's newest finished run outside
-	// this change that finished no later than it.
-	const group: {
-		id: number;
-		requirement_id: number;
-		status: string;
-		verdict: string | null;
-		worst_point: string | null;
-		identifier: string;
-		title: string;
-		req_owner: number | null;
-		model_owner: number | null;
-		model_name: string;
-		model_version: number;
-		project_key: string;
-		trigger: string;
-		prev_status: string | null;
-		prev_verdict: string | null;
-	}[] = (
-		await trx.raw(
-			`with g as (select * from analysis_runs where ${run.trigger_ref ? 'trigger_ref = ?' : 'id = ?'})
-			select g.id, g.requirement_id, g.status, g.verdict, g.worst_point, g.trigger,
-				r.identifier, rr.title, rr.owner_id as req_owner, m.owner_id as model_owner, m.name as model_name,
-				mv.version as model_version, p.key as project_key, prev.status as prev_status, prev.verdict as prev_verdict
-			from g
-			join requirements r on r.id = g.requirement_id
-			join requirement_revisions rr on rr.requirement_id = r.id and rr.revision = r.current_revision
-			join model_versions mv on mv.id = g.model_version_id
-			join models m on m.id = mv.model_id
-			join projects p on p.id = g.project_id
-			left join lateral (
-				select x.status, x.verdict from analysis_runs x
-				where x.requirement_id = g.requirement_id and x.status in ('done', 'error')
-					and x.id not in (select id from g) and x.finished_at <= g.finished_at
-				order by x.finished_at desc, x.id desc limit 1
-			) prev on true
-			order by r.number`,
-			[run.trigger_ref ?? run.id]
-		)
-	).rows;
+	const group = await changeRuns(
+		trx,
+		run.trigger_ref ? { triggerRef: run.trigger_ref } : { runId: Number(run.id) }
+	);
 	if (group.length === 0) return 0;
 
 	const changes: { run: (typeof group)[number]; from: Outcome | null; to: Outcome }[] = [];
@@ -114,11 +73,7 @@ export async function afterRunFinished(trx: Db, run: FinishedRun): Promise<numbe
 	}
 	let mails = 0;
 	if (byPerson.size) {
-		const people: { id: number; email: string; display_name: string }[] = await trx('users')
-			.whereIn('id', [...byPerson.keys()])
-			.where({ disabled: false })
-			.select('id', 'email', 'display_name');
-		for (const person of people) {
+		for (const person of await noticeRecipients(trx, [...byPerson.keys()])) {
 			const list = byPerson.get(Number(person.id))!;
 			const first = list[0].run;
 			const subject =
@@ -144,6 +99,6 @@ export async function afterRunFinished(trx: Db, run: FinishedRun): Promise<numbe
 			mails++;
 		}
 	}
-	await trx('analysis_notices').where({ trigger_ref: ref }).update({ changes: changes.length, mails });
+	await recordNotice(trx, ref, { changes: changes.length, mails });
 	return mails;
 }
