@@ -24,33 +24,33 @@ const bad: [string, unknown, string, RegExp][] = [
 	[
 		'leading zero in the denominator',
 		withModel({ kind: 'tf', num: [1], den: [0, 1, 2] }),
-		'model.den.0',
+		'model.den[0]',
 		/leading/
 	],
 	[
 		'leading zero in the numerator',
 		withModel({ kind: 'tf', num: [0, 1], den: [1, 2] }),
-		'model.num.0',
+		'model.num[0]',
 		/leading/
 	],
 	['improper model', withModel({ kind: 'tf', num: [1, 2, 3], den: [1, 2] }), 'model.num', /improper/],
 	[
 		'non-number coefficient',
 		withModel({ kind: 'tf', num: ['x'], den: [1, 2] }),
-		'model.num.0',
+		'model.num[0]',
 		/finite number/
 	],
 	[
 		'NaN coefficient (module only; JSON cannot hold it)',
 		withModel({ kind: 'tf', num: [NaN], den: [1, 2] }),
-		'model.num.0',
+		'model.num[0]',
 		/finite/
 	],
 	['unknown kind', withModel({ kind: 'frd', num: [1], den: [1] }), 'model.kind', /kind/],
 	[
 		'complex pole without partner',
 		withModel({ kind: 'zpk', zeros: [], poles: [[-1, 2]], gain: 1 }),
-		'model.poles.0',
+		'model.poles[0]',
 		/conjugate/
 	],
 	[
@@ -64,7 +64,7 @@ const bad: [string, unknown, string, RegExp][] = [
 			],
 			gain: 1
 		}),
-		'model.zeros.0',
+		'model.zeros[0]',
 		/conjugate/
 	],
 	[
@@ -84,7 +84,7 @@ const bad: [string, unknown, string, RegExp][] = [
 	[
 		'non-square A',
 		withModel({ kind: 'ss', A: [[1, 2], [3]], B: [[1], [0]], C: [[1, 0]], D: [[0]] }),
-		'model.A.1',
+		'model.A[1]',
 		/square/
 	],
 	[
@@ -105,22 +105,22 @@ const bad: [string, unknown, string, RegExp][] = [
 		'model.D',
 		/D must be/
 	],
-	['sector with k1 >= k2', withCheck({ type: 'circle', sector: [2, 1] }), 'checks.0.sector', /k1 < k2/],
-	['sector with equal bounds', withCheck({ type: 'circle', sector: [1, 1] }), 'checks.0.sector', /k1 < k2/],
+	['sector with k1 >= k2', withCheck({ type: 'circle', sector: [2, 1] }), 'checks[0].sector', /k1 < k2/],
+	['sector with equal bounds', withCheck({ type: 'circle', sector: [1, 1] }), 'checks[0].sector', /k1 < k2/],
 	[
 		'sector with a non-finite lower bound',
 		withCheck({ type: 'circle', sector: ['Infinity', 2] }),
-		'checks.0.sector.0',
+		'checks[0].sector[0]',
 		/finite/
 	],
 	[
 		'Popov with an infinite bound',
 		withCheck({ type: 'popov', sector: [0, null] }),
-		'checks.0.sector.1',
+		'checks[0].sector[1]',
 		/finite/
 	],
-	['Popov with k1 != 0', withCheck({ type: 'popov', sector: [1, 2] }), 'checks.0.sector.0', /k1 must be 0/],
-	['unknown check', withCheck({ type: 'bode' }), 'checks.0.type', /check.type/],
+	['Popov with k1 != 0', withCheck({ type: 'popov', sector: [1, 2] }), 'checks[0].sector[0]', /k1 must be 0/],
+	['unknown check', withCheck({ type: 'bode' }), 'checks[0].type', /check.type/],
 	['no checks', { model: good, checks: [] }, 'checks', /empty/],
 	['no model', { checks: [{ type: 'margins' }] }, 'model', /model or operatingPoints/],
 	[
@@ -132,7 +132,7 @@ const bad: [string, unknown, string, RegExp][] = [
 			],
 			checks: [{ type: 'margins' }]
 		},
-		'operatingPoints.1.label',
+		'operatingPoints[1].label',
 		/duplicate/
 	]
 ];

@@ -278,6 +278,8 @@ export function runPopov(plant: Plant, k: number): CheckResult {
 		k,
 		q,
 		thresholdEstimate: enc(core.threshold),
+		thresholdProvedWithQ: enc(core.thresholdCertified),
+		// Old name, kept for one engine version so readers of recorded results keep working.
 		thresholdCertifiedWithQ: enc(core.thresholdCertified),
 		minPopovReal: core.gBest,
 		frequencyScale: w0
@@ -298,7 +300,7 @@ export function runPopov(plant: Plant, k: number): CheckResult {
 				criticalFrequency: critical,
 				margin: 1 / k + core.gBest,
 				numbers: { ...numbers, q: qq, positivityDecidedBy: pos.path },
-				explanation: `Absolutely stable for every time-invariant nonlinearity in [0, ${fmt(k)}]: the Popov line through -1/k with slope 1/q, q = ${fmt(qq)} s, is certified exactly.`
+				explanation: `Absolutely stable for every time-invariant nonlinearity in [0, ${fmt(k)}]: the Popov line through -1/k with slope 1/q, q = ${fmt(qq)} s, is proved exactly.`
 			};
 		}
 	}
@@ -325,11 +327,11 @@ export function runPopov(plant: Plant, k: number): CheckResult {
 			criticalFrequency: critical,
 			margin: 1 / k + core.gBest,
 			numbers: { ...numbers, witnessFrequencies: wit.map((x) => Math.sqrt(x) * w0).join(',') },
-			explanation: `Not certified for [0, ${fmt(k)}]: the Popov criterion certifies sectors up to [0, ${threshold === Infinity ? 'infinity' : fmt(threshold ?? NaN)}] only.`,
+			explanation: `Not proved for [0, ${fmt(k)}]: the Popov criterion proves sectors up to [0, ${threshold === Infinity ? 'infinity' : fmt(threshold ?? NaN)}] only.`,
 			reason
 		};
 	}
-	const reason = `The best multiplier found (q = ${fmt(q)} s) does not certify k = ${fmt(k)}, and no exact proof that none exists was found (k is within numerical reach of the Popov limit ${fmt(core.threshold)}).`;
+	const reason = `The best multiplier found (q = ${fmt(q)} s) does not prove k = ${fmt(k)}, and no exact proof that none exists was found (k is within numerical reach of the Popov limit ${fmt(core.threshold)}).`;
 	return {
 		...base,
 		verdict: 'inconclusive',
