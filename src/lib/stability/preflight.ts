@@ -362,7 +362,52 @@ export function preflight(plant: Plant, model: Model, check: Check): CheckResult
 	}
 	const h = hiddenModes(plant, model);
 	if (h.unstable) return refuse(check, plant, hiddenModeReason(h), hiddenNumbers(h));
+	if (check.type === 'popov' && h.degree > 0) {
+		// Popov's theorem is stated for a minimal realisation (Khalil, 3rd ed., Theorem 7.3: (A, B)
+		// controllable, (A, C) observable); a hidden mode, even a decaying one, is outside it.
+		const reason = `The Popov criterion needs a minimal realisation, and the model as entered has a hidden mode at ${h.modes
+			.slice(0, 4)
+			.map((m) => `s = ${modeText(m)}`)
+			.join(', ')} (${hiddenWords[h.kind]}). Enter the minimal model, or use the circle criterion.`;
+		return {
+			type: 'popov',
+			verdict: 'inconclusive',
+			q: null,
+			threshold: null,
+			criticalFrequency: null,
+			margin: null,
+			numbers: hiddenNumbers(h),
+			explanation: reason,
+			reason,
+			assumptions: PREFLIGHT_ASSUMPTIONS
+		};
+	}
 	return null;
+}
+
+/**
+ * After a Popov pass: the theorem also asks that -1/q not be an eigenvalue of A (Khalil, 3rd ed., Theorem
+ * 7.3). With a minimal realisation the eigenvalues are the roots of D, so the test is D(-1/q) != 0, exact
+ * for the dyadic q as q^n D(-1/q) = sum_i d_i (-1)^i q^(n-i). A pass that meets an eigenvalue (a case of
+ * measure zero) is reported inconclusive rather than claimed.
+ */
+export function popovAfter(plant: Plant, r: CheckResult): CheckResult {
+	if (r.verdict !== 'pass' || typeof r.q !== 'number' || !(r.q > 0)) return r;
+	const q = dyadicOf(r.q);
+	const d = plant.tf.D.c;
+	const n = d.length - 1;
+	let acc = 0n;
+	// Horner in the reversed polynomial: sum_i d_i (-1)^i m^(n-i) 2^(e (n-i)); shift to a common exponent.
+	for (let i = 0; i <= n; i++) {
+		const k = n - i;
+		let term = (i % 2 ? -d[i] : d[i]) * q.m ** BigInt(k);
+		const sh = q.e * k - Math.min(0, q.e) * n;
+		term = sh >= 0 ? term << BigInt(sh) : term;
+		acc += term;
+	}
+	if (acc !== 0n) return r;
+	const reason = `The multiplier found, q = ${fmt(r.q)} s, puts -1/q on an eigenvalue of A, which the Popov criterion excludes (Khalil, 3rd ed., Theorem 7.3); no pass is claimed.`;
+	return { ...r, verdict: 'inconclusive', q: null, explanation: reason, reason };
 }
 
 // ---------------------------------------------------------------------------------------------------------

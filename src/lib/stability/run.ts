@@ -5,7 +5,7 @@ import { runMaxSector } from './checks/max-sector';
 import { runPopov } from './checks/popov';
 import { runPositiveReal } from './checks/positive-real';
 import { preparePlant } from './model';
-import { maxSectorLimits, preflight } from './preflight';
+import { maxSectorLimits, popovAfter, preflight } from './preflight';
 import { type Check, type Model, ModelInputError, parseCase, parseCheck, parseModel } from './schema';
 import type { CheckResult, Verdict } from './types';
 
@@ -35,7 +35,7 @@ function runValidated(model: Model, check: Check): CheckResult {
 		case 'circle':
 			return runCircle(plant, check.sector[0], check.sector[1]);
 		case 'popov':
-			return runPopov(plant, check.sector[1]);
+			return popovAfter(plant, runPopov(plant, check.sector[1]));
 		case 'positive-real':
 			return runPositiveReal(plant);
 		case 'max-sector':

@@ -123,6 +123,68 @@ const bad: [string, unknown, string, RegExp][] = [
 	['unknown check', withCheck({ type: 'bode' }), 'checks[0].type', /check.type/],
 	['no checks', { model: good, checks: [] }, 'checks', /empty/],
 	['no model', { checks: [{ type: 'margins' }] }, 'model', /model or operatingPoints/],
+	// Issue 11, defect 4: every message names the check by its place in the case.
+	[
+		'a bad upper bound in the second check',
+		{
+			model: good,
+			checks: [
+				{ type: 'circle', sector: [0, 1] },
+				{ type: 'circle', sector: [0, 'infinite'] }
+			]
+		},
+		'checks[1].sector[1]',
+		/null \/ "Infinity"/
+	],
+	// Issue 11, defect 8: unknown fields are refused, never dropped.
+	[
+		'unknown model field "delay"',
+		withModel({ kind: 'tf', num: [1], den: [1, 1], delay: 1 }),
+		'model.delay',
+		/unknown field "delay"/
+	],
+	[
+		'misspelt model field',
+		withModel({ kind: 'tf', num: [1], den: [1, 1], sampletime: 0.01 }),
+		'model.sampletime',
+		/unknown field "sampletime"/
+	],
+	[
+		'unknown zpk field',
+		withModel({ kind: 'zpk', zeros: [], poles: [[-1, 0]], gain: 1, Ts: 0.1 }),
+		'model.Ts',
+		/unknown field "Ts"/
+	],
+	[
+		'unknown ss field',
+		withModel({ kind: 'ss', A: [[-1]], B: [[1]], C: [[1]], D: [[0]], E: [[1]] }),
+		'model.E',
+		/unknown field "E"/
+	],
+	[
+		'unknown check field',
+		withCheck({ type: 'circle', sector: [0, 1], timeVarying: false }),
+		'checks[0].timeVarying',
+		/unknown field "timeVarying"/
+	],
+	[
+		'unknown max-sector field',
+		withCheck({ type: 'max-sector', lower: 0, upper: 5 }),
+		'checks[0].upper',
+		/unknown field "upper"/
+	],
+	[
+		'unknown case field',
+		{ model: good, checks: [{ type: 'margins' }], options: {} },
+		'options',
+		/unknown field "options"/
+	],
+	[
+		'unknown operating point field',
+		{ operatingPoints: [{ label: 'a', model: good, weight: 1 }], checks: [{ type: 'margins' }] },
+		'operatingPoints[0].weight',
+		/unknown field "weight"/
+	],
 	[
 		'duplicate operating point labels',
 		{

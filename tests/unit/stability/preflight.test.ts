@@ -11,6 +11,8 @@ import {
 	type CheckResult,
 	type Model
 } from '../../../src/lib/stability/index';
+import { preparePlant } from '../../../src/lib/stability/model';
+import { popovAfter } from '../../../src/lib/stability/preflight';
 
 const num = (v: unknown) => (v === 'Infinity' ? Infinity : (v as number));
 const circle = (k1: number, k2: number | string | null): Check =>
@@ -185,6 +187,10 @@ describe('defect 2: one rule for hidden modes, in every check', () => {
 			}
 		];
 		for (const G of forms) {
+			// Popov's theorem asks for a minimal realisation (Khalil, 3rd ed., Theorem 7.3): not claimed here.
+			const p = runCheck(G, { type: 'popov', sector: [0, 5] });
+			expect(p.verdict).toBe('inconclusive');
+			expect(p.reason).toMatch(/minimal realisation.*hidden mode at s = -1\b/);
 			expect(runCheck(G, { type: 'positive-real' }).class).toBe('SPR');
 			expect(runCheck(G, circle(0, 100)).verdict).toBe('pass');
 			expect(runCheck(G, { type: 'max-sector', lower: 0 }).threshold).toBe('Infinity');
@@ -303,5 +309,23 @@ describe('words: results say proved, never certified (old field names kept as al
 			expect(JSON.stringify({ ...r, numbers: rest })).not.toMatch(/certif/i);
 			if (r.type === 'popov') expect(thresholdCertifiedWithQ).toEqual(r.numbers.thresholdProvedWithQ);
 		}
+	});
+});
+
+describe('Popov: -1/q must not be an eigenvalue of A (Khalil, 3rd ed., Theorem 7.3)', () => {
+	it('a pass whose q puts -1/q on a pole is not claimed; other q are left alone', () => {
+		// G = 1/((s + 1)(s + 2)): the eigenvalues are -1 and -2, so q = 1 and q = 0.5 are excluded.
+		const plant = preparePlant({ kind: 'tf', num: [1], den: [1, 3, 2] });
+		const pass: CheckResult = {
+			type: 'popov',
+			verdict: 'pass',
+			q: 1,
+			numbers: {},
+			explanation: 'x'
+		};
+		expect(popovAfter(plant, pass).verdict).toBe('inconclusive');
+		expect(popovAfter(plant, { ...pass, q: 0.5 }).reason).toMatch(/eigenvalue of A/);
+		expect(popovAfter(plant, { ...pass, q: 0.75 }).verdict).toBe('pass');
+		expect(popovAfter(plant, { ...pass, q: 0 }).verdict).toBe('pass');
 	});
 });

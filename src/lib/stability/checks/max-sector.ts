@@ -15,6 +15,13 @@ import { circleCore, zPolys } from './circle';
 import { type GainInterval, hurwitzAtGain, intervalContaining, linearGainIntervals } from './gain-range';
 
 const fmt = (x: number) => (Number.isFinite(x) ? Number(x.toPrecision(6)).toString() : String(x));
+/** Six digits rounded down, so the words never claim more than the proved bound. */
+function fmtDown(x: number): string {
+	if (!Number.isFinite(x) || x === 0) return fmt(x);
+	let p = Number(x.toPrecision(6));
+	if (p > x) p = Number((p - 10 ** (Math.floor(Math.log10(Math.abs(x))) - 5)).toPrecision(6));
+	return p.toString();
+}
 
 export interface MaxSectorCore {
 	feasible: boolean;
@@ -230,7 +237,7 @@ export function runMaxSector(
 				: '; the sector [' + fmt(k1) + ', infinity] itself is not proved'
 		}. Linear gains are stable over ${lin}.`;
 	else {
-		const t = core.threshold === Infinity ? 'infinity' : fmt(core.threshold!);
+		const t = core.threshold === Infinity ? 'infinity' : fmtDown(core.threshold!);
 		const ill =
 			limits.illPosedAbove !== null && core.failAbove === limits.illPosedAbove
 				? ` It stops short of k = ${fmt(limits.illPosedAbove)}, where 1 + k G(inf) = 0 and the loop is not well posed.`
