@@ -29,7 +29,8 @@ import {
 	isHurwitzExact,
 	isZero,
 	oddMultiplicityPositiveRoots,
-	scaleD
+	scaleD,
+	signAt
 } from './exact';
 import { EXACT_BUDGET, certifiedHurwitz, certifiedPositiveOnHalfLine } from './certify';
 import { circleCore } from './checks/circle';
@@ -121,6 +122,8 @@ export interface HiddenModes {
 	/** The hidden modes, numerical, rad/s. */
 	modes: { re: number; im: number }[];
 	kind: Model['kind'];
+	/** G is identically zero: every mode of the model is hidden. */
+	zeroGain: boolean;
 }
 
 // Primes below 2^26, so a product of two residues is below 2^52 and exact in a double (both checked with
@@ -212,7 +215,8 @@ export function hiddenModes(plant: Plant, model: Model): HiddenModes {
 		degree: deg,
 		unstable: deg > 0 && !isHurwitzExact(g).hurwitz,
 		modes: deg > 0 ? rootsOf(g) : [],
-		kind: model.kind
+		kind: model.kind,
+		zeroGain: isZero(N)
 	};
 	hiddenCache.set(plant, out);
 	return out;
@@ -243,7 +247,10 @@ function unstableModesText(h: HiddenModes): string {
 }
 
 export function hiddenModeReason(h: HiddenModes): string {
-	return `The model as entered has a hidden mode at ${unstableModesText(h)} (${hiddenWords[h.kind]}) with non-negative real part. No feedback reaches a hidden mode, so the loop is unstable for every gain and every nonlinearity, whatever the transfer function after cancellation says; enter a minimal model if the mode is not physical.`;
+	const words = h.zeroGain
+		? 'G is identically zero, so no mode of the model reaches the output'
+		: hiddenWords[h.kind];
+	return `The model as entered has a hidden mode at ${unstableModesText(h)} (${words}) with non-negative real part. No feedback reaches a hidden mode, so the loop is unstable for every gain and every nonlinearity, whatever the transfer function after cancellation says; enter a minimal model if the mode is not physical.`;
 }
 
 // ---------------------------------------------------------------------------------------------------------
@@ -386,26 +393,46 @@ export function preflight(plant: Plant, model: Model, check: Check): CheckResult
 }
 
 /**
- * After a Popov pass: the theorem also asks that -1/q not be an eigenvalue of A (Khalil, 3rd ed., Theorem
- * 7.3). With a minimal realisation the eigenvalues are the roots of D, so the test is D(-1/q) != 0, exact
- * for the dyadic q as q^n D(-1/q) = sum_i d_i (-1)^i q^(n-i). A pass that meets an eigenvalue (a case of
- * measure zero) is reported inconclusive rather than claimed.
+ * Is -1/q a root of the polynomial c (ascending, exact)? q^n c(-1/q) = sum_i c_i (-1)^i q^(n-i), exact for
+ * a dyadic q = m 2^e (every term shifted to the common exponent min(0, e n)).
  */
-export function popovAfter(plant: Plant, r: CheckResult): CheckResult {
-	if (r.verdict !== 'pass' || typeof r.q !== 'number' || !(r.q > 0)) return r;
-	const q = dyadicOf(r.q);
-	const d = plant.tf.D.c;
-	const n = d.length - 1;
+function rootAtMinusInverse(c: readonly bigint[], qIn: number): boolean {
+	if (!(qIn > 0) || !Number.isFinite(qIn)) return false;
+	const q = dyadicOf(qIn);
+	const n = c.length - 1;
+	const base = Math.min(0, q.e) * n;
 	let acc = 0n;
-	// Horner in the reversed polynomial: sum_i d_i (-1)^i m^(n-i) 2^(e (n-i)); shift to a common exponent.
 	for (let i = 0; i <= n; i++) {
 		const k = n - i;
-		let term = (i % 2 ? -d[i] : d[i]) * q.m ** BigInt(k);
-		const sh = q.e * k - Math.min(0, q.e) * n;
-		term = sh >= 0 ? term << BigInt(sh) : term;
-		acc += term;
+		const term = (i % 2 ? -c[i] : c[i]) * q.m ** BigInt(k);
+		acc += term << BigInt(q.e * k - base);
 	}
-	if (acc !== 0n) return r;
+	return acc === 0n;
+}
+
+/**
+ * Popov multipliers to try, in scaled units, with any q that puts -1/q on an eigenvalue of A replaced by
+ * two neighbours: Khalil, 3rd ed., Theorem 7.3 excludes such q, and the Popov inequality is continuous in
+ * q, so a strict pass at q carries over to q (1 +- 2^-20) whenever the exact test there says so.
+ */
+export function popovMultipliers(plant: Plant, qs: readonly number[]): number[] {
+	const out: number[] = [];
+	for (const q of qs) {
+		if (!rootAtMinusInverse(plant.Ds.c, q)) out.push(q);
+		else
+			for (const f of [1 + 2 ** -20, 1 - 2 ** -20])
+				if (!rootAtMinusInverse(plant.Ds.c, q * f)) out.push(q * f);
+	}
+	return out;
+}
+
+/**
+ * After a Popov pass, the same condition on the reported q (rad/s units): with a minimal realisation the
+ * eigenvalues of A are the roots of D. A pass that meets an eigenvalue is reported inconclusive rather
+ * than claimed (popovMultipliers keeps the search away from them, so this is a last guard).
+ */
+export function popovAfter(plant: Plant, r: CheckResult): CheckResult {
+	if (r.verdict !== 'pass' || typeof r.q !== 'number' || !rootAtMinusInverse(plant.tf.D.c, r.q)) return r;
 	const reason = `The multiplier found, q = ${fmt(r.q)} s, puts -1/q on an eigenvalue of A, which the Popov criterion excludes (Khalil, 3rd ed., Theorem 7.3); no pass is claimed.`;
 	return { ...r, verdict: 'inconclusive', q: null, explanation: reason, reason };
 }
@@ -442,7 +469,8 @@ function unboundedAbove(plant: Plant, k1: number): boolean {
 	if (c[c.length - 1] < 0n || c[0] < 0n) return false;
 	const pos = certifiedPositiveOnHalfLine(B);
 	if (pos.positive) return true;
-	// A witness with B(x) <= 0 may be a touching root (B = 0): only the exact count below tells.
+	// B(x) < 0 at a witness bounds k2; B(x) = 0 may be a touching root, which only the exact count tells.
+	if (pos.undecided || (pos.witness !== undefined && signAt(c, dyadicOf(pos.witness)) < 0)) return false;
 	let bits = 0;
 	for (const v of c) bits = Math.max(bits, bitLength(v));
 	if (bits * c.length > EXACT_BUDGET) return false;

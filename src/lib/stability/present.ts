@@ -171,8 +171,8 @@ export interface PopovCurve {
 }
 
 /**
- * Popov plot (Re G(jw), w Im G(jw)) (Khalil, 3rd ed., section 7.1, after Theorem 7.3) with the certifying
- * line. Without opts.k the line is drawn for the largest k the Popov search certifies.
+ * Popov plot (Re G(jw), w Im G(jw)) (Khalil, 3rd ed., section 7.1, after Theorem 7.3) with the proving
+ * line. Without opts.k the line is drawn for the largest k the Popov search proves.
  */
 export function popovCurve(model: Model, opts: CurveOptions & { k?: number; q?: number } = {}): PopovCurve {
 	const plant = plantOf(model);

@@ -328,4 +328,21 @@ describe('Popov: -1/q must not be an eigenvalue of A (Khalil, 3rd ed., Theorem 7
 		expect(popovAfter(plant, { ...pass, q: 0.75 }).verdict).toBe('pass');
 		expect(popovAfter(plant, { ...pass, q: 0 }).verdict).toBe('pass');
 	});
+
+	it('the Popov search never reports such a q: 1/(s+1), 1/(s+1)^3 and 1/((s+1)(s+2))', () => {
+		// Re[(1 + jwq) G] + 1/k > 0 holds for q = 1 (1/(s+1) and 1/(s+1)^3, Khalil's example values) and
+		// q = 1/2 (1/((s+1)(s+2))), but those q put -1/q on a pole; a neighbouring q must be reported.
+		for (const [den, poles] of [
+			[[1, 1], [-1]],
+			[[1, 3, 3, 1], [-1]],
+			[
+				[1, 3, 2],
+				[-1, -2]
+			]
+		] as [number[], number[]][]) {
+			const r = runCheck({ kind: 'tf', num: [1], den }, { type: 'popov', sector: [0, 7] });
+			expect(r.verdict).toBe('pass');
+			for (const p of poles) expect(-1 / (r.q as number)).not.toBe(p);
+		}
+	});
 });

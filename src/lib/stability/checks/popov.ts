@@ -25,6 +25,7 @@ import { certifiedHurwitz, certifiedPositiveOnHalfLine } from '../certify';
 import { addF, toFloatCommon } from '../fpoly';
 import type { Plant } from '../model';
 import { minRatioOnHalfLine } from '../roots';
+import { popovMultipliers } from '../preflight';
 import { type CheckResult, enc } from '../types';
 
 const fmt = (x: number) => (Number.isFinite(x) ? Number(x.toPrecision(6)).toString() : String(x));
@@ -210,7 +211,10 @@ export function popovCore(plant: Plant): PopovCore {
 			argminX: null
 		};
 	const pp = popovPolys(plant);
-	const best = maximiseG(pp);
+	// Theorem 7.3 excludes a q with -1/q an eigenvalue of A: the multiplier is moved off one (preflight.ts).
+	const found = maximiseG(pp);
+	const qOk = popovMultipliers(plant, [found.q])[0] ?? found.q;
+	const best = qOk === found.q ? found : (({ value, x }) => ({ q: qOk, g: value, x }))(gOf(pp, qOk));
 	const threshold = best.g >= 0 ? Infinity : -1 / best.g;
 	// Certify a threshold with q*: largest of a few values just below the estimate that passes exactly.
 	let thresholdCertified: number | null = null;
@@ -287,7 +291,7 @@ export function runPopov(plant: Plant, k: number): CheckResult {
 	const critical = core.argminX === null ? null : Math.sqrt(core.argminX) * w0;
 	const threshold = core.thresholdCertified;
 	// Try q*, then q = 0 (the circle-criterion multiplier) for this k.
-	for (const qs of [core.qScaled, 0]) {
+	for (const qs of popovMultipliers(plant, [core.qScaled, 0])) {
 		const E = popovE(pp, k, qs);
 		const pos = certifiedPositiveOnHalfLine(E, core.argminX !== null ? [core.argminX] : []);
 		if (pos.positive) {
