@@ -8,9 +8,9 @@
 // 2. Hidden modes. The model as entered is the system: a mode that the transfer function does not show (a
 //    pole cancelled by a zero in a tf or zpk, an uncontrollable or unobservable eigenvalue of A in state
 //    space) is not moved by any feedback. For a single-input single-output model these modes are exactly
-//    the roots of gcd(N, D) with N = C adj(sI - A) B + D det(sI - A), D = det(sI - A) (e.g. Kailath,
-//    Linear Systems, 1980, section 2.4 and chapter 6: a realisation is minimal iff it is controllable and
-//    observable, iff N and det(sI - A) are coprime). One rule for every check: a hidden mode with
+//    the roots of gcd(N, D) with N = C adj(sI - A) B + D det(sI - A), D = det(sI - A): a realisation is
+//    minimal iff it is controllable and observable, iff N and det(sI - A) are coprime (Kailath, Linear
+//    Systems, 1980, the chapters on realisations; from memory). One rule for every check: a hidden mode with
 //    Re s >= 0 makes the loop unstable for every gain (and the model not passive), so every check fails
 //    with that reason; hidden modes in the open left half-plane decay whatever the loop does and are
 //    allowed.
@@ -174,7 +174,7 @@ function remM(aIn: number[], b: number[], p: number): number[] {
  * A proof that N and D are coprime, by Euclid's algorithm modulo a prime p that does not divide lc(D): a
  * common factor g over the rationals divides both in Z[x] (Gauss's lemma) with lc(g) | lc(D), so its image
  * mod p keeps its degree and divides both images; a constant gcd mod p therefore rules it out (the
- * argument behind modular gcd algorithms: Knuth, TAOCP vol. 2, 3rd ed., section 4.6.1). False means "not
+ * argument behind modular gcd algorithms: Knuth, TAOCP vol. 2, 3rd ed., section 4.6.1, from memory). False means "not
  * shown", never "not coprime".
  */
 function coprimeModular(N: readonly bigint[], D: readonly bigint[]): boolean {
@@ -451,12 +451,13 @@ export interface MaxSectorLimits {
 
 /**
  * Exact test of "every finite k2 > k1 passes" (head of this file, item 3). Needs Q = D + k1 N Hurwitz and
- * 1 + k G(inf) > 0 for every k >= k1 (then Z(inf) > 0 for every finite k2); B > 0 on [0, inf) is decided by
+ * 1 + k G(inf) of one sign for every k >= k1 (then Z(inf) > 0 for every finite k2); B > 0 on [0, inf) is decided by
  * the certified positivity test, B >= 0 with touching roots by counting the roots of odd multiplicity.
  */
 function unboundedAbove(plant: Plant, k1: number): boolean {
 	const ft = feedthrough(plant);
-	if (ft && (signOnePlusKD(ft, k1) <= 0 || signOnePlusKD(ft, Infinity) <= 0)) return false;
+	// Z(inf) = (1 + k2 G(inf))/(1 + k1 G(inf)) > 0 for every k2 > k1 iff both ends have one sign.
+	if (ft && signOnePlusKD(ft, k1) * signOnePlusKD(ft, Infinity) <= 0) return false;
 	const { Ns, Ds } = plant;
 	const Q = isZero(Ns) ? Ds : addD(Ds, scaleD(Ns, dyadicOf(k1)));
 	if (degree(Q) < plant.order) return false;

@@ -286,6 +286,27 @@ describe('CLI', () => {
 		expect(out.results[3].threshold).toBeCloseTo(-((1 + xs) * (4 + xs)) / (2 - xs), 5);
 	}, 60_000);
 
+	it('an infinite upper bound in every documented spelling is analysed, not refused (issue 11, defect 4)', async () => {
+		// G = 1/(s+1): Re G(jw) = 1/(1 + w^2) > 0, so [0, infinity] holds (Khalil, 3rd ed., section 7.1, k1 = 0).
+		const f = join(dir, 'infinite.json');
+		writeFileSync(
+			f,
+			JSON.stringify({
+				model: { kind: 'tf', num: [1], den: [1, 1] },
+				checks: [
+					{ type: 'circle', sector: [0, 'Infinity'] },
+					{ type: 'circle', sector: [0, null] },
+					{ type: 'circle', sector: [0, 'inf'] }
+				]
+			})
+		);
+		const r = await runCli(f);
+		expect(r.stderr).toBe('');
+		expect(r.code).toBe(0);
+		const out = JSON.parse(r.stdout);
+		expect(out.results.map((x: { verdict: string }) => x.verdict)).toEqual(['pass', 'pass', 'pass']);
+	}, 60_000);
+
 	it('operating points: the aggregate names the worst point', async () => {
 		const f = join(dir, 'points.json');
 		writeFileSync(
