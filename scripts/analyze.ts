@@ -2,6 +2,8 @@
 // Reads { "model": <model> | "operatingPoints": [{ "label", "model" }], "checks": [ ... ] } and prints
 // { "engineVersion", "results": [ ... ] } on stdout, one result per check in order.
 // Exit codes: 0 analysed (whatever the verdicts), 2 invalid input (message on stderr), 1 internal error.
+// The case is validated once (src/lib/stability/schema.ts): unknown fields are refused, an infinite upper
+// bound is null / "Infinity" / "inf", and every message names its place ("checks[1].sector[1]: ...").
 import { readFileSync } from 'node:fs';
 import { ENGINE_VERSION, ModelInputError, analyzeCase } from '../src/lib/stability/index';
 

@@ -1,4 +1,4 @@
-// Loopwarden's certified stability engine. Pure TypeScript: no I/O, runs in the browser and on the server.
+// Loopwarden's stability engine (exact decisions; not a qualified tool). Pure TypeScript: no I/O, runs in the browser and on the server.
 export { ENGINE_VERSION } from './version';
 export {
 	modelSchema,
@@ -8,6 +8,8 @@ export {
 	parseCheck,
 	parseCase,
 	ModelInputError,
+	INFINITE_BOUND_SPELLINGS,
+	strictIn,
 	type Model,
 	type Check,
 	type Case,
@@ -16,4 +18,12 @@ export {
 export type { CheckResult, Verdict, PositiveRealClass, NumberOrInf } from './types';
 export { toTransferFunction, poles, zeros, dcGain, relativeDegree } from './model';
 export { runCheck, runCheckOnPoints, analyzeCase } from './run';
-export { nyquistCurve, sectorGeometry, popovCurve, reZCurve, type CurvePoint } from './present';
+export {
+	nyquistCurve,
+	sectorGeometry,
+	regionMargin,
+	regionWords,
+	popovCurve,
+	reZCurve,
+	type CurvePoint
+} from './present';

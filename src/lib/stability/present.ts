@@ -109,21 +109,59 @@ export type SectorGeometry =
 			curveMust: 'stay-outside' | 'stay-inside';
 			diameter: [number, number];
 	  }
-	| { kind: 'half-plane'; boundary: number; curveMust: 'stay-right' };
+	| { kind: 'half-plane'; boundary: number; curveMust: 'stay-right' | 'stay-left' };
 
-/** Forbidden region of the circle criterion (Khalil, 3rd ed., section 7.1) for the sector [k1, k2]. */
+/**
+ * Forbidden region of the circle criterion (Khalil, 3rd ed., section 7.1) for the sector [k1, k2], all
+ * cases: outside the disk for k1 k2 > 0 (for k1 < k2 < 0 the disk lies on the positive real axis), inside
+ * it for k1 < 0 < k2, right of -1/k2 for k1 = 0, left of -1/k1 for k2 = 0 (checks/circle.ts diskOf).
+ */
 export function sectorGeometry(k1: number, k2: number): SectorGeometry {
 	const d = diskOf(k1, k2);
-	if (d.kind === 'half-plane') return { kind: 'half-plane', boundary: d.boundary, curveMust: 'stay-right' };
+	if (d.kind === 'half-plane')
+		return {
+			kind: 'half-plane',
+			boundary: d.boundary,
+			curveMust: d.side === 'right' ? 'stay-right' : 'stay-left'
+		};
 	const a = -1 / k1;
 	const b = k2 === Infinity ? 0 : -1 / k2;
 	return {
 		kind: 'disk',
 		centre: d.centre,
 		radius: d.radius,
-		curveMust: k1 > 0 ? 'stay-outside' : 'stay-inside',
+		curveMust: d.side === 'outside' ? 'stay-outside' : 'stay-inside',
 		diameter: [Math.min(a, b), Math.max(a, b)]
 	};
+}
+
+/** Signed distance of the point re + j im from the region's boundary: positive on the allowed side. */
+export function regionMargin(
+	g:
+		| { kind: 'disk'; centre: number; radius: number; curveMust: 'stay-outside' | 'stay-inside' }
+		| { kind: 'half-plane'; boundary: number; curveMust: 'stay-right' | 'stay-left' },
+	re: number,
+	im: number
+): number {
+	if (g.kind === 'half-plane') return g.curveMust === 'stay-right' ? re - g.boundary : g.boundary - re;
+	const d = Math.hypot(re - g.centre, im);
+	return g.curveMust === 'stay-outside' ? d - g.radius : g.radius - d;
+}
+
+const fmt = (x: number) => (Number.isFinite(x) ? Number(x.toPrecision(6)).toString() : String(x));
+
+/** Where the circle criterion needs the Nyquist curve of G, in words (the geometry of sectorGeometry). */
+export function regionWords(k1: number, k2: number): string {
+	const g = sectorGeometry(k1, k2);
+	if (g.kind === 'half-plane')
+		return `the half-plane Re G ${g.curveMust === 'stay-right' ? '>' : '<'} ${fmt(g.boundary)}`;
+	const disk = `the disk centred at ${fmt(g.centre)} with radius ${fmt(g.radius)} (diameter [${fmt(g.diameter[0])}, ${fmt(g.diameter[1])}] on the real axis)`;
+	if (g.curveMust === 'stay-inside') return `the inside of ${disk}`;
+	const mirrored =
+		k2 < 0
+			? ', which lies on the positive real axis because both bounds are negative (the usual disk for -G and the sector [-k2, -k1], mirrored through the origin)'
+			: '';
+	return `the outside of ${disk}${mirrored}, encircling it counter-clockwise once for each pole of G in the open right half-plane`;
 }
 
 export interface PopovCurve {
@@ -133,8 +171,8 @@ export interface PopovCurve {
 }
 
 /**
- * Popov plot (Re G(jw), w Im G(jw)) (Khalil, 3rd ed., section 7.1, after Theorem 7.3) with the certifying
- * line. Without opts.k the line is drawn for the largest k the Popov search certifies.
+ * Popov plot (Re G(jw), w Im G(jw)) (Khalil, 3rd ed., section 7.1, after Theorem 7.3) with the proving
+ * line. Without opts.k the line is drawn for the largest k the Popov search proves.
  */
 export function popovCurve(model: Model, opts: CurveOptions & { k?: number; q?: number } = {}): PopovCurve {
 	const plant = plantOf(model);

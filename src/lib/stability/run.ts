@@ -5,51 +5,51 @@ import { runMaxSector } from './checks/max-sector';
 import { runPopov } from './checks/popov';
 import { runPositiveReal } from './checks/positive-real';
 import { preparePlant } from './model';
-import { type Check, type Model, ModelInputError, checkSchema, modelSchema, parseCase } from './schema';
+import { maxSectorLimits, popovAfter, preflight } from './preflight';
+import { type Check, type Model, ModelInputError, parseCase, parseCheck, parseModel } from './schema';
 import type { CheckResult, Verdict } from './types';
-
-function ensureModel(model: Model): Model {
-	const r = modelSchema.safeParse(model);
-	if (!r.success)
-		throw new ModelInputError(
-			r.error.issues.map((i) => ({ path: ['model', ...i.path.map(String)].join('.'), message: i.message }))
-		);
-	return r.data;
-}
-
-function ensureCheck(check: Check): Check {
-	const r = checkSchema.safeParse(check);
-	if (!r.success)
-		throw new ModelInputError(
-			r.error.issues.map((i) => ({ path: ['check', ...i.path.map(String)].join('.'), message: i.message }))
-		);
-	return r.data;
-}
 
 // Parsed models by input object, so repeated checks on the same model reuse its exact polynomials.
 const validated = new WeakMap<object, Model>();
 
-/** Run one check. Inputs are validated (ModelInputError on bad input); results are plain data. */
-export function runCheck(modelIn: Model, checkIn: Check): CheckResult {
-	let model = typeof modelIn === 'object' && modelIn !== null ? validated.get(modelIn) : undefined;
-	if (!model) {
-		model = ensureModel(modelIn);
-		if (typeof modelIn === 'object' && modelIn !== null) validated.set(modelIn, model);
-	}
-	const check = ensureCheck(checkIn);
+function validModel(modelIn: unknown, path: string): Model {
+	const key = typeof modelIn === 'object' && modelIn !== null ? modelIn : null;
+	const hit = key ? validated.get(key) : undefined;
+	if (hit) return hit;
+	const model = parseModel(modelIn, path);
+	if (key) validated.set(key, model);
+	// The parsed copy is its own key too, so a caller passing it back is not parsed again.
+	validated.set(model, model);
+	return model;
+}
+
+/**
+ * One check on a validated model: the preflight (well-posedness, hidden modes; preflight.ts) first, then
+ * the criterion. Every entry point below validates its input once and then comes here.
+ */
+function runValidated(model: Model, check: Check): CheckResult {
 	const plant = preparePlant(model);
+	const refused = preflight(plant, model, check);
+	if (refused) return refused;
 	switch (check.type) {
 		case 'circle':
 			return runCircle(plant, check.sector[0], check.sector[1]);
 		case 'popov':
-			return runPopov(plant, check.sector[1]);
+			return popovAfter(plant, runPopov(plant, check.sector[1]));
 		case 'positive-real':
 			return runPositiveReal(plant);
 		case 'max-sector':
-			return runMaxSector(plant, check.lower);
+			return runMaxSector(plant, check.lower, maxSectorLimits(plant, check.lower));
 		case 'margins':
 			return runMargins(plant, check.minGainMarginDb, check.minPhaseMarginDeg);
 	}
+}
+
+/** Run one check. Inputs are validated (ModelInputError on bad input); results are plain data. */
+export function runCheck(modelIn: Model, checkIn: Check): CheckResult {
+	const model = validModel(modelIn, 'model');
+	const check = parseCheck(checkIn, 'check');
+	return runValidated(model, check);
 }
 
 const verdictRank: Record<Verdict, number> = { fail: 0, inconclusive: 1, pass: 2 };
@@ -80,7 +80,7 @@ function score(r: CheckResult): [number, number] {
 
 /**
  * Run a check at every operating point. The aggregate verdict passes only when every point passes; the
- * aggregate carries the worst point's numbers and names it (DOMAIN.md section 3).
+ * aggregate carries the worst point's numbers and names it.
  */
 export function runCheckOnPoints(
 	points: { label: string; model: Model }[],
@@ -88,7 +88,17 @@ export function runCheckOnPoints(
 ): CheckResult & { worstPoint: string; perPoint: (CheckResult & { label: string })[] } {
 	if (!Array.isArray(points) || points.length === 0)
 		throw new ModelInputError([{ path: 'operatingPoints', message: 'operatingPoints is empty' }]);
-	const perPoint = points.map((p) => ({ label: p.label, ...runCheck(p.model, check) }));
+	const parsed = parseCheck(check, 'check');
+	const models = points.map((p, i) => validModel(p.model, `operatingPoints[${i}].model`));
+	return onPoints(points, models, parsed);
+}
+
+function onPoints(
+	points: { label: string }[],
+	models: Model[],
+	check: Check
+): CheckResult & { worstPoint: string; perPoint: (CheckResult & { label: string })[] } {
+	const perPoint = points.map((p, i) => ({ label: p.label, ...runValidated(models[i], check) }));
 	let worst = perPoint[0];
 	for (const r of perPoint.slice(1)) {
 		const a = score(r);
@@ -112,11 +122,13 @@ export function runCheckOnPoints(
 
 /** Validate and run a whole case ({ model | operatingPoints, checks }); used by the CLI. */
 export function analyzeCase(input: unknown): { results: CheckResult[] } {
+	// Validated once here (a second pass would see the parsed values, not the file's spellings).
 	const c = parseCase(input);
 	if (c.operatingPoints) {
 		const pts = c.operatingPoints;
-		return { results: c.checks.map((ch) => runCheckOnPoints(pts, ch)) };
+		const models = pts.map((p) => p.model);
+		return { results: c.checks.map((ch) => onPoints(pts, models, ch)) };
 	}
 	const model = c.model!;
-	return { results: c.checks.map((ch) => runCheck(model, ch)) };
+	return { results: c.checks.map((ch) => runValidated(model, ch)) };
 }

@@ -15,6 +15,21 @@ export class ModelInputError extends Error {
 	}
 }
 
+/**
+ * Objects refuse fields they do not know: a misspelt or unsupported field (a "delay", a "sampletime") would
+ * otherwise be dropped and the model analysed as if it were not there. The message names the field.
+ */
+export function unknownFieldMessage(keys: readonly PropertyKey[], where: string): string {
+	const names = keys.map((k) => `"${String(k)}"`).join(', ');
+	return `unknown field${keys.length > 1 ? 's' : ''} ${names} in ${where}: not supported by this engine (remove ${keys.length > 1 ? 'them' : 'it'})`;
+}
+
+/** zod options for a strict object whose unknown fields are refused with unknownFieldMessage. */
+export const strictIn = (where: string) => ({
+	error: (iss: { code?: string; keys?: PropertyKey[] }) =>
+		iss.code === 'unrecognized_keys' ? unknownFieldMessage(iss.keys ?? [], where) : undefined
+});
+
 const finite = (what: string) =>
 	z.number({
 		error: (iss) => (iss.input === undefined ? `${what} is required` : `${what} must be a finite number`)
@@ -33,7 +48,10 @@ const matrix = (what: string) =>
 	});
 
 const tfSchema = z
-	.object({ kind: z.literal('tf'), num: coeffList('numerator'), den: coeffList('denominator') })
+	.strictObject(
+		{ kind: z.literal('tf'), num: coeffList('numerator'), den: coeffList('denominator') },
+		strictIn('a "tf" model')
+	)
 	.superRefine((m, ctx) => {
 		if (m.den.length === 0) ctx.addIssue({ code: 'custom', path: ['den'], message: 'denominator is empty' });
 		else if (m.den.every((v) => v === 0))
@@ -80,12 +98,15 @@ function conjugateIssue(list: [number, number][]): number | null {
 }
 
 const zpkSchema = z
-	.object({
-		kind: z.literal('zpk'),
-		zeros: z.array(pair, { error: 'zeros must be an array of [re, im] pairs' }),
-		poles: z.array(pair, { error: 'poles must be an array of [re, im] pairs' }),
-		gain: finite('gain')
-	})
+	.strictObject(
+		{
+			kind: z.literal('zpk'),
+			zeros: z.array(pair, { error: 'zeros must be an array of [re, im] pairs' }),
+			poles: z.array(pair, { error: 'poles must be an array of [re, im] pairs' }),
+			gain: finite('gain')
+		},
+		strictIn('a "zpk" model')
+	)
 	.superRefine((m, ctx) => {
 		const zi = conjugateIssue(m.zeros);
 		if (zi !== null)
@@ -110,7 +131,10 @@ const zpkSchema = z
 	});
 
 const ssSchema = z
-	.object({ kind: z.literal('ss'), A: matrix('A'), B: matrix('B'), C: matrix('C'), D: matrix('D') })
+	.strictObject(
+		{ kind: z.literal('ss'), A: matrix('A'), B: matrix('B'), C: matrix('C'), D: matrix('D') },
+		strictIn('an "ss" model')
+	)
 	.superRefine((m, ctx) => {
 		const n = m.A.length;
 		if (n === 0) {
@@ -147,12 +171,15 @@ export const modelSchema = z.discriminatedUnion('kind', [tfSchema, zpkSchema, ss
 export type Model = z.infer<typeof modelSchema>;
 
 /**
- * A sector bound. JSON has no Infinity, so an infinite upper bound is written null or "Infinity"; it is
- * turned into the number Infinity here.
+ * Spellings of an infinite upper sector bound. JSON has no Infinity, so a file writes null or "Infinity"
+ * (or "inf"); a TypeScript caller may pass the number Infinity, which is also what the parsed check holds,
+ * so parsing an already parsed check gives the same check.
  */
+export const INFINITE_BOUND_SPELLINGS = [null, 'Infinity', 'inf'] as const;
+
 const upperBound = z
-	.union([z.number(), z.null(), z.literal('Infinity'), z.literal('inf')], {
-		error: 'sector bound must be a number, or null / "Infinity" for an infinite upper bound'
+	.union([z.number(), z.literal(Infinity), z.null(), z.literal('Infinity'), z.literal('inf')], {
+		error: 'sector bound must be a finite number, or null / "Infinity" / "inf" for an infinite upper bound'
 	})
 	.transform((v) => (v === null || v === 'Infinity' || v === 'inf' ? Infinity : v));
 
@@ -160,51 +187,58 @@ const sectorSchema = z.tuple([finite('lower sector bound k1'), upperBound], {
 	error: 'sector must be a pair [k1, k2]'
 });
 
-const circleCheck = z.object({ type: z.literal('circle'), sector: sectorSchema }).superRefine((c, ctx) => {
-	const [k1, k2] = c.sector;
-	if (Number.isNaN(k2) || k2 === -Infinity)
-		ctx.addIssue({
-			code: 'custom',
-			path: ['sector', 1],
-			message: 'upper sector bound k2 must be finite or +Infinity'
-		});
-	else if (!(k1 < k2))
-		ctx.addIssue({
-			code: 'custom',
-			path: ['sector'],
-			message: `sector needs k1 < k2 (got k1 = ${k1}, k2 = ${k2})`
-		});
-});
+const circleCheck = z
+	.strictObject({ type: z.literal('circle'), sector: sectorSchema }, strictIn('a "circle" check'))
+	.superRefine((c, ctx) => {
+		const [k1, k2] = c.sector;
+		if (!(k1 < k2))
+			ctx.addIssue({
+				code: 'custom',
+				path: ['sector'],
+				message: `sector needs k1 < k2 (got k1 = ${k1}, k2 = ${k2})`
+			});
+	});
 
-const popovCheck = z.object({ type: z.literal('popov'), sector: sectorSchema }).superRefine((c, ctx) => {
-	const [k1, k] = c.sector;
-	if (k1 !== 0)
-		ctx.addIssue({
-			code: 'custom',
-			path: ['sector', 0],
-			message: 'the Popov criterion here takes a sector [0, k]: k1 must be 0'
-		});
-	if (!Number.isFinite(k))
-		ctx.addIssue({
-			code: 'custom',
-			path: ['sector', 1],
-			message: 'the Popov check needs a finite upper bound k'
-		});
-	else if (!(k > 0))
-		ctx.addIssue({
-			code: 'custom',
-			path: ['sector', 1],
-			message: `the upper bound k must be positive (got ${k})`
-		});
-});
+const popovCheck = z
+	.strictObject({ type: z.literal('popov'), sector: sectorSchema }, strictIn('a "popov" check'))
+	.superRefine((c, ctx) => {
+		const [k1, k] = c.sector;
+		if (k1 !== 0)
+			ctx.addIssue({
+				code: 'custom',
+				path: ['sector', 0],
+				message: 'the Popov criterion here takes a sector [0, k]: k1 must be 0'
+			});
+		if (!Number.isFinite(k))
+			ctx.addIssue({
+				code: 'custom',
+				path: ['sector', 1],
+				message: 'the Popov check needs a finite upper bound k (k = infinity is not covered)'
+			});
+		else if (!(k > 0))
+			ctx.addIssue({
+				code: 'custom',
+				path: ['sector', 1],
+				message: `the upper bound k must be positive (got ${k})`
+			});
+	});
 
-const positiveRealCheck = z.object({ type: z.literal('positive-real') });
-const maxSectorCheck = z.object({ type: z.literal('max-sector'), lower: finite('lower sector bound') });
-const marginsCheck = z.object({
-	type: z.literal('margins'),
-	minGainMarginDb: finite('minGainMarginDb').optional(),
-	minPhaseMarginDeg: finite('minPhaseMarginDeg').optional()
-});
+const positiveRealCheck = z.strictObject(
+	{ type: z.literal('positive-real') },
+	strictIn('a "positive-real" check')
+);
+const maxSectorCheck = z.strictObject(
+	{ type: z.literal('max-sector'), lower: finite('lower sector bound') },
+	strictIn('a "max-sector" check')
+);
+const marginsCheck = z.strictObject(
+	{
+		type: z.literal('margins'),
+		minGainMarginDb: finite('minGainMarginDb').optional(),
+		minPhaseMarginDeg: finite('minPhaseMarginDeg').optional()
+	},
+	strictIn('a "margins" check')
+);
 
 export const checkSchema = z.discriminatedUnion(
 	'type',
@@ -214,17 +248,23 @@ export const checkSchema = z.discriminatedUnion(
 
 export type Check = z.infer<typeof checkSchema>;
 
-const operatingPoint = z.object({
-	label: z.string({ error: 'label must be a string' }).min(1, 'label is empty'),
-	model: modelSchema
-});
+const operatingPoint = z.strictObject(
+	{
+		label: z.string({ error: 'label must be a string' }).min(1, 'label is empty'),
+		model: modelSchema
+	},
+	strictIn('an operating point')
+);
 
 export const caseSchema = z
-	.object({
-		model: modelSchema.optional(),
-		operatingPoints: z.array(operatingPoint, { error: 'operatingPoints must be an array' }).optional(),
-		checks: z.array(checkSchema, { error: 'checks must be an array' }).min(1, 'checks is empty')
-	})
+	.strictObject(
+		{
+			model: modelSchema.optional(),
+			operatingPoints: z.array(operatingPoint, { error: 'operatingPoints must be an array' }).optional(),
+			checks: z.array(checkSchema, { error: 'checks must be an array' }).min(1, 'checks is empty')
+		},
+		strictIn('the case')
+	)
 	.superRefine((c, ctx) => {
 		if (c.model === undefined && c.operatingPoints === undefined)
 			ctx.addIssue({ code: 'custom', path: ['model'], message: 'give either model or operatingPoints' });
@@ -252,22 +292,41 @@ export const caseSchema = z
 
 export type Case = z.infer<typeof caseSchema>;
 
-function toIssues(err: z.ZodError, prefix: string): InputIssue[] {
-	return err.issues.map((i) => ({
-		path: [prefix, ...i.path.map(String)].filter((s) => s !== '').join('.'),
-		message: i.message
-	}));
+/**
+ * A field path as a reader writes it: names joined by dots, list positions in brackets
+ * ("checks[1].sector[1]", "operatingPoints[0].model.den[2]").
+ */
+export function formatPath(prefix: string, parts: readonly PropertyKey[]): string {
+	let out = prefix;
+	for (const p of parts) {
+		if (typeof p === 'number') out += `[${p}]`;
+		else out += out ? `.${String(p)}` : String(p);
+	}
+	return out;
 }
 
-export function parseModel(input: unknown): Model {
+/** zod issues as InputIssues; an unknown-field issue becomes one issue per field, at that field's path. */
+export function toIssues(err: z.ZodError, prefix: string): InputIssue[] {
+	const out: InputIssue[] = [];
+	for (const i of err.issues) {
+		if (i.code === 'unrecognized_keys') {
+			for (const k of i.keys) out.push({ path: formatPath(prefix, [...i.path, k]), message: i.message });
+		} else out.push({ path: formatPath(prefix, i.path), message: i.message });
+	}
+	return out;
+}
+
+/** Validate a model; `path` names it in messages ("model", "operatingPoints[2].model"). */
+export function parseModel(input: unknown, path = 'model'): Model {
 	const r = modelSchema.safeParse(input);
-	if (!r.success) throw new ModelInputError(toIssues(r.error, 'model'));
+	if (!r.success) throw new ModelInputError(toIssues(r.error, path));
 	return r.data;
 }
 
-export function parseCheck(input: unknown): Check {
+/** Validate a check; `path` names it in messages ("check", "checks[1]"). */
+export function parseCheck(input: unknown, path = 'check'): Check {
 	const r = checkSchema.safeParse(input);
-	if (!r.success) throw new ModelInputError(toIssues(r.error, 'check'));
+	if (!r.success) throw new ModelInputError(toIssues(r.error, path));
 	return r.data;
 }
 

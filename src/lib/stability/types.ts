@@ -4,7 +4,10 @@
 // sector, or an infinite gain margin) is written as the string 'Infinity' everywhere in a result, both in
 // the top-level fields and in `numbers`. `null` means "not defined / not applicable" (for example no
 // critical frequency because the extremum is approached only as w -> infinity). Inputs accept the same
-// spelling ("Infinity", or null) for an infinite upper sector bound.
+// spelling ("Infinity", "inf", or null) for an infinite upper sector bound (schema.ts).
+//
+// Words: results say "proved" (or "exact"), never "certified": Loopwarden is not a qualified tool
+// (RTCA DO-330). Fields once named "certified..." keep that name as an alias for one engine version.
 
 export type Verdict = 'pass' | 'fail' | 'inconclusive';
 export type PositiveRealClass = 'SPR' | 'PR' | 'neither';
@@ -16,9 +19,9 @@ export interface CheckResult {
 	class?: PositiveRealClass;
 	/** rad/s; where the deciding quantity is smallest. */
 	criticalFrequency?: number | null;
-	/** Largest certified upper bound (max-sector, popov). */
+	/** Largest proved upper bound (max-sector, popov); 'Infinity' when unbounded. */
 	threshold?: NumberOrInf | null;
-	/** Popov multiplier that certifies the sector. */
+	/** Popov multiplier that proves the sector. */
 	q?: number | null;
 	/** Check-specific margin (see `numbers` for the named quantities). */
 	margin?: NumberOrInf | null;

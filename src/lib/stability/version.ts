@@ -1,11 +1,14 @@
 /**
  * Version of the stability engine, recorded with every analysis run so a verdict can be traced to the
- * code that produced it (DOMAIN.md section 6: a verdict is stale once the engine version changes).
+ * code that produced it (a verdict is stale once the engine version changes).
  * Bump rules (semantic versioning):
- * - MAJOR: a verdict, class or certified threshold can change for some input (decision method changed),
+ * - MAJOR: a verdict, class or proved threshold can change for some input (decision method changed),
  *   or a result field is removed or renamed.
  * - MINOR: new checks, new result fields, new accepted input forms; existing verdicts unchanged.
  * - PATCH: wording of explanations, performance, reported numerical values (estimates, frequencies)
- *   changing within their stated accuracy; no verdict or certified threshold changes.
+ *   changing within their stated accuracy; no verdict or proved threshold changes.
  */
-export const ENGINE_VERSION = '1.0.0';
+// 2.0.0: well-posedness and hidden modes decided before every criterion, unbounded largest sectors,
+// unknown input fields refused (verdicts change for such inputs); "certified..." fields renamed "proved...",
+// the old names kept as aliases for this version.
+export const ENGINE_VERSION = '2.0.0';

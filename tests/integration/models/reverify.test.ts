@@ -271,6 +271,22 @@ describe('publishing a model version', () => {
 		expect(twice.status).toBe(400);
 		expect(twice.body.error.fields['operatingPoints.1.label']).toMatch(/used twice/);
 
+		// Unknown fields are refused with the field named (issue 11, defect 8), in the model, the operating
+		// point and the version body; nothing is silently dropped.
+		const delayed = await publish(modelId, points({ kind: 'tf', num: [1], den: [1, 1], delay: 1 }));
+		expect(delayed.status).toBe(400);
+		expect(delayed.body.error.fields['operatingPoints.0.model']).toMatch(/unknown field "delay"/);
+		const weighted = await publish(modelId, [{ label: 'hover', model: LAG, weight: 2 }]);
+		expect(weighted.status).toBe(400);
+		expect(weighted.body.error.fields['operatingPoints.0']).toMatch(/unknown field "weight"/);
+		const extraBody = await analyst.json(
+			`/api/v1/projects/${team.project.key}/models/${modelId}/versions`,
+			'POST',
+			{ note: 'x', operatingPoints: points(LAG), sampleTime: 0.01 }
+		);
+		expect(extraBody.status).toBe(400);
+		expect((await extraBody.json()).error.fields._).toMatch(/unknown field "sampleTime"/);
+
 		const none = await publish(modelId, []);
 		expect(none.status).toBe(400);
 		expect(none.body.error.fields.operatingPoints).toMatch(/at least one/);

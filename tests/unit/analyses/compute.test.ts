@@ -110,4 +110,49 @@ describe('computeRun', () => {
 			})
 		).toThrow(/k1 must be 0/);
 	});
+
+	// Issue 11, defect 4 on the recorded-run path: a stored specification with an infinite bound (in any of
+	// the engine's spellings) is decided, not refused. G1 = 1/(s+1) has Re G1 > 0, so [0, infinity] holds.
+	it.each([['Infinity'], [null], ['inf']])('decides [0, %s] for 1/(s+1)', (k2) => {
+		const r = computeRun({
+			check: { type: 'circle', sector: [0, k2] },
+			requiredMargin: null,
+			operatingPoints: null,
+			content: one(G1)
+		});
+		expect(r.verdict).toBe('pass');
+		expect(r.result.requiredUpper).toBe('Infinity');
+	});
+
+	// Issue 11, defect 8 on the recorded-run path: unknown fields in the check or a stored model are named.
+	it('refuses unknown fields in the check and in an operating point model, naming them', () => {
+		expect(() =>
+			computeRun({
+				check: { type: 'circle', sector: [0, 3], delay: 0.1 },
+				requiredMargin: null,
+				operatingPoints: null,
+				content: one(G1)
+			})
+		).toThrow(/check\.delay: unknown field "delay"/);
+		expect(() =>
+			computeRun({
+				check: { type: 'circle', sector: [0, 3] },
+				requiredMargin: null,
+				operatingPoints: null,
+				content: one({ ...G1, sampletime: 0.01 } as unknown as typeof G1)
+			})
+		).toThrow(/operatingPoints\[0\]\.model\.sampletime: unknown field "sampletime"/);
+	});
+
+	// Words: the proved bound is provedUpper; certifiedUpper stays as an alias for one engine version.
+	it('reports provedUpper, with the old name certifiedUpper as an alias', () => {
+		const r = computeRun({
+			check: { type: 'circle', sector: [0, 3] },
+			requiredMargin: null,
+			operatingPoints: null,
+			content: one(G3)
+		});
+		expect(r.result.provedUpper).toBeCloseTo(4, 6);
+		expect(r.result.certifiedUpper).toBe(r.result.provedUpper);
+	});
 });

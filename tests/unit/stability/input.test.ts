@@ -24,33 +24,33 @@ const bad: [string, unknown, string, RegExp][] = [
 	[
 		'leading zero in the denominator',
 		withModel({ kind: 'tf', num: [1], den: [0, 1, 2] }),
-		'model.den.0',
+		'model.den[0]',
 		/leading/
 	],
 	[
 		'leading zero in the numerator',
 		withModel({ kind: 'tf', num: [0, 1], den: [1, 2] }),
-		'model.num.0',
+		'model.num[0]',
 		/leading/
 	],
 	['improper model', withModel({ kind: 'tf', num: [1, 2, 3], den: [1, 2] }), 'model.num', /improper/],
 	[
 		'non-number coefficient',
 		withModel({ kind: 'tf', num: ['x'], den: [1, 2] }),
-		'model.num.0',
+		'model.num[0]',
 		/finite number/
 	],
 	[
 		'NaN coefficient (module only; JSON cannot hold it)',
 		withModel({ kind: 'tf', num: [NaN], den: [1, 2] }),
-		'model.num.0',
+		'model.num[0]',
 		/finite/
 	],
 	['unknown kind', withModel({ kind: 'frd', num: [1], den: [1] }), 'model.kind', /kind/],
 	[
 		'complex pole without partner',
 		withModel({ kind: 'zpk', zeros: [], poles: [[-1, 2]], gain: 1 }),
-		'model.poles.0',
+		'model.poles[0]',
 		/conjugate/
 	],
 	[
@@ -64,7 +64,7 @@ const bad: [string, unknown, string, RegExp][] = [
 			],
 			gain: 1
 		}),
-		'model.zeros.0',
+		'model.zeros[0]',
 		/conjugate/
 	],
 	[
@@ -84,7 +84,7 @@ const bad: [string, unknown, string, RegExp][] = [
 	[
 		'non-square A',
 		withModel({ kind: 'ss', A: [[1, 2], [3]], B: [[1], [0]], C: [[1, 0]], D: [[0]] }),
-		'model.A.1',
+		'model.A[1]',
 		/square/
 	],
 	[
@@ -105,24 +105,86 @@ const bad: [string, unknown, string, RegExp][] = [
 		'model.D',
 		/D must be/
 	],
-	['sector with k1 >= k2', withCheck({ type: 'circle', sector: [2, 1] }), 'checks.0.sector', /k1 < k2/],
-	['sector with equal bounds', withCheck({ type: 'circle', sector: [1, 1] }), 'checks.0.sector', /k1 < k2/],
+	['sector with k1 >= k2', withCheck({ type: 'circle', sector: [2, 1] }), 'checks[0].sector', /k1 < k2/],
+	['sector with equal bounds', withCheck({ type: 'circle', sector: [1, 1] }), 'checks[0].sector', /k1 < k2/],
 	[
 		'sector with a non-finite lower bound',
 		withCheck({ type: 'circle', sector: ['Infinity', 2] }),
-		'checks.0.sector.0',
+		'checks[0].sector[0]',
 		/finite/
 	],
 	[
 		'Popov with an infinite bound',
 		withCheck({ type: 'popov', sector: [0, null] }),
-		'checks.0.sector.1',
+		'checks[0].sector[1]',
 		/finite/
 	],
-	['Popov with k1 != 0', withCheck({ type: 'popov', sector: [1, 2] }), 'checks.0.sector.0', /k1 must be 0/],
-	['unknown check', withCheck({ type: 'bode' }), 'checks.0.type', /check.type/],
+	['Popov with k1 != 0', withCheck({ type: 'popov', sector: [1, 2] }), 'checks[0].sector[0]', /k1 must be 0/],
+	['unknown check', withCheck({ type: 'bode' }), 'checks[0].type', /check.type/],
 	['no checks', { model: good, checks: [] }, 'checks', /empty/],
 	['no model', { checks: [{ type: 'margins' }] }, 'model', /model or operatingPoints/],
+	// Issue 11, defect 4: every message names the check by its place in the case.
+	[
+		'a bad upper bound in the second check',
+		{
+			model: good,
+			checks: [
+				{ type: 'circle', sector: [0, 1] },
+				{ type: 'circle', sector: [0, 'infinite'] }
+			]
+		},
+		'checks[1].sector[1]',
+		/null \/ "Infinity"/
+	],
+	// Issue 11, defect 8: unknown fields are refused, never dropped.
+	[
+		'unknown model field "delay"',
+		withModel({ kind: 'tf', num: [1], den: [1, 1], delay: 1 }),
+		'model.delay',
+		/unknown field "delay"/
+	],
+	[
+		'misspelt model field',
+		withModel({ kind: 'tf', num: [1], den: [1, 1], sampletime: 0.01 }),
+		'model.sampletime',
+		/unknown field "sampletime"/
+	],
+	[
+		'unknown zpk field',
+		withModel({ kind: 'zpk', zeros: [], poles: [[-1, 0]], gain: 1, Ts: 0.1 }),
+		'model.Ts',
+		/unknown field "Ts"/
+	],
+	[
+		'unknown ss field',
+		withModel({ kind: 'ss', A: [[-1]], B: [[1]], C: [[1]], D: [[0]], E: [[1]] }),
+		'model.E',
+		/unknown field "E"/
+	],
+	[
+		'unknown check field',
+		withCheck({ type: 'circle', sector: [0, 1], timeVarying: false }),
+		'checks[0].timeVarying',
+		/unknown field "timeVarying"/
+	],
+	[
+		'unknown max-sector field',
+		withCheck({ type: 'max-sector', lower: 0, upper: 5 }),
+		'checks[0].upper',
+		/unknown field "upper"/
+	],
+	[
+		'unknown case field',
+		{ model: good, checks: [{ type: 'margins' }], options: {} },
+		'options',
+		/unknown field "options"/
+	],
+	[
+		'unknown operating point field',
+		{ operatingPoints: [{ label: 'a', model: good, weight: 1 }], checks: [{ type: 'margins' }] },
+		'operatingPoints[0].weight',
+		/unknown field "weight"/
+	],
 	[
 		'duplicate operating point labels',
 		{
@@ -132,7 +194,7 @@ const bad: [string, unknown, string, RegExp][] = [
 			],
 			checks: [{ type: 'margins' }]
 		},
-		'operatingPoints.1.label',
+		'operatingPoints[1].label',
 		/duplicate/
 	]
 ];
@@ -222,6 +284,27 @@ describe('CLI', () => {
 		// 1/((s+1)(s+2)): k2* = -1/min Re G with x* = 2 + 3 sqrt 2 (reference.test.ts derivation).
 		const xs = 2 + 3 * Math.SQRT2;
 		expect(out.results[3].threshold).toBeCloseTo(-((1 + xs) * (4 + xs)) / (2 - xs), 5);
+	}, 60_000);
+
+	it('an infinite upper bound in every documented spelling is analysed, not refused (issue 11, defect 4)', async () => {
+		// G = 1/(s+1): Re G(jw) = 1/(1 + w^2) > 0, so [0, infinity] holds (Khalil, 3rd ed., section 7.1, k1 = 0).
+		const f = join(dir, 'infinite.json');
+		writeFileSync(
+			f,
+			JSON.stringify({
+				model: { kind: 'tf', num: [1], den: [1, 1] },
+				checks: [
+					{ type: 'circle', sector: [0, 'Infinity'] },
+					{ type: 'circle', sector: [0, null] },
+					{ type: 'circle', sector: [0, 'inf'] }
+				]
+			})
+		);
+		const r = await runCli(f);
+		expect(r.stderr).toBe('');
+		expect(r.code).toBe(0);
+		const out = JSON.parse(r.stdout);
+		expect(out.results.map((x: { verdict: string }) => x.verdict)).toEqual(['pass', 'pass', 'pass']);
 	}, 60_000);
 
 	it('operating points: the aggregate names the worst point', async () => {

@@ -48,9 +48,14 @@ describe('circle criterion, k1 = 0: largest sector from min Re G(jw)', () => {
 		expect(runCheck(model, { type: 'circle', sector: [0, 4.01] }).verdict).toBe('fail');
 	});
 
-	it('Khalil, Nonlinear Systems, 3rd ed., section 7.1 example G = 4/((s+1)(s/2+1)(s/3+1)): k2 about 1.1646 (from memory)', () => {
-		// Recalled: min Re G(jw) about -0.8587, so the sector [0, 1.1646] is certified. Cross-checked here by a
-		// 64-digit grid evaluation, which bounds the true minimum from above.
+	it('Khalil, Nonlinear Systems, 3rd ed., section 7.1 example G = 4/((s+1)(s/2+1)(s/3+1)): k2* = 1.1644555622 (exact, sympy)', () => {
+		// Exact value, not a recalled one: Re G(jw) = -144 (x - 1)/((x + 1)(x + 4)(x + 9)), x = w^2; its
+		// stationary points are the roots of 2x^3 + 11x^2 - 28x - 85, the positive one x* = 3.165211232716209
+		// (w* = 1.779104053369619 rad/s) gives min Re G = -0.8587704266674096, so k2* = -1/min Re G =
+		// 1.164455562216614. Computed with sympy 1.11.1 (Debian python3-sympy: CRootOf of the cubic, evaluated
+		// to 30 digits) for this test.
+		const exact = 1.164455562216614;
+		const wStar = 1.779104053369619;
 		const model: Model = {
 			kind: 'zpk',
 			zeros: [],
@@ -62,15 +67,23 @@ describe('circle criterion, k1 = 0: largest sector from min Re G(jw)', () => {
 			gain: 24
 		};
 		const r = runCheck(model, { type: 'max-sector', lower: 0 });
-		expect(num(r.threshold)).toBeCloseTo(1.1646, 3);
+		// The proved bound is a safe lower end within 1e-9 relative of the exact limit; the exact test fails
+		// just above it, so the bracket holds the limit.
+		expect(num(r.threshold)).toBeLessThanOrEqual(exact);
+		expect(num(r.threshold)).toBeGreaterThan(exact * (1 - 1e-9));
+		expect(num(r.numbers.thresholdFailAbove)).toBeGreaterThanOrEqual(exact);
+		expect(Math.abs((r.criticalFrequency as number) - wStar)).toBeLessThan(1e-6 * wStar);
+		expect(runCheck(model, { type: 'circle', sector: [0, 1.1644555] }).verdict).toBe('pass');
+		expect(runCheck(model, { type: 'circle', sector: [0, 1.1644556] }).verdict).toBe('fail');
+		// Independent cross-check: a 64-digit grid evaluation (helpers.ts, mathjs BigNumber) bounds the true
+		// minimum from above.
 		const grid = gridMinReG([24], [1, 6, 11, 6], 0.01, 100, 4000);
-		expect(-1 / num(r.threshold)).toBeLessThanOrEqual(grid.value + 1e-12);
-		expect(-1 / num(r.threshold)).toBeGreaterThan(grid.value - 1e-4);
+		expect(-1 / exact).toBeLessThanOrEqual(grid.value + 1e-12);
 		// 1 + kG stable iff s^3 + 6s^2 + 11s + 6 + 24k Hurwitz: -0.25 < k < 2.5 (Routh: 66 > 6 + 24k).
 		expect(r.linearGainIntervals![0][0]).toBeCloseTo(-0.25, 10);
 		expect(r.linearGainIntervals![0][1]).toBeCloseTo(2.5, 10);
 		// Case k1 < 0 < k2: |G(jw)| <= G(0) = 4 touches the circle of radius 4 at w = 0, so the closed disk
-		// condition of [-0.25, 0.25] is not met strictly, while a slightly smaller sector is certified.
+		// condition of [-0.25, 0.25] is not met strictly, while a slightly smaller sector is proved.
 		expect(runCheck(model, { type: 'circle', sector: [-0.25, 0.25] }).verdict).toBe('fail');
 		expect(runCheck(model, { type: 'circle', sector: [-0.24, 0.24] }).verdict).toBe('pass');
 	});

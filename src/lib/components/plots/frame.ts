@@ -136,8 +136,10 @@ export function regionBox(g: SectorGeometry): Box {
 export function regionPath(frame: Frame, g: SectorGeometry): { d: string; rule: 'nonzero' | 'evenodd' } {
 	const { x, y, w, h } = innerRect(frame);
 	if (g.kind === 'half-plane') {
+		// Forbidden: left of the boundary (stay-right) or right of it (stay-left, a sector [k1, 0]).
 		const bx = Math.max(x, Math.min(x + w, frame.x(g.boundary)));
-		return { d: `M${x},${y}H${bx}V${y + h}H${x}Z`, rule: 'nonzero' };
+		const edge = g.curveMust === 'stay-left' ? x + w : x;
+		return { d: `M${edge},${y}H${bx}V${y + h}H${edge}Z`, rule: 'nonzero' };
 	}
 	const cx = frame.x(g.centre);
 	const cy = frame.y(0);

@@ -75,7 +75,9 @@ function brief(r: CheckResult & { label: string }) {
 }
 
 export function computeRun(inputs: RunInputs): RunOutput {
-	const check = parseCheck(inputs.check);
+	// Validated once, with the engine's spellings of an infinite bound ("Infinity", null); the engine entry
+	// points below accept the parsed check as it is.
+	const check = parseCheck(inputs.check, 'check');
 	const all = inputs.content?.operatingPoints;
 	if (!Array.isArray(all) || all.length === 0)
 		throw new ModelInputError([
@@ -96,16 +98,16 @@ export function computeRun(inputs: RunInputs): RunOutput {
 	const { decide, required } = effectiveCheck(check, inputs.requiredMargin);
 	const agg = runCheckOnPoints(points, decide);
 
-	// The certified upper bound next to the required one: for a circle check, the largest k2 certified
-	// for the same k1 (worst point); for Popov, the largest k the Popov search certifies.
-	let certifiedUpper: number | null = null;
+	// The proved upper bound next to the required one: for a circle check, the largest k2 proved for the
+	// same k1 (worst point); for Popov, the largest k the Popov search proves.
+	let provedUpper: number | null = null;
 	if (check.type === 'circle') {
 		const ms = runCheckOnPoints(points, { type: 'max-sector', lower: check.sector[0] });
-		certifiedUpper = num(ms.threshold);
+		provedUpper = num(ms.threshold);
 	} else if (check.type === 'popov') {
-		certifiedUpper = num(agg.threshold);
+		provedUpper = num(agg.threshold);
 	} else if (check.type === 'max-sector') {
-		certifiedUpper = num(agg.threshold);
+		provedUpper = num(agg.threshold);
 	}
 
 	const result: Record<string, unknown> = {
@@ -115,10 +117,12 @@ export function computeRun(inputs: RunInputs): RunOutput {
 		requiredUpper: json(
 			required ?? (check.type === 'circle' || check.type === 'popov' ? check.sector[1] : null)
 		),
-		certifiedUpper: json(certifiedUpper),
+		provedUpper: json(provedUpper),
+		// Old name of provedUpper, kept for one engine version (readers of recorded runs use it).
+		certifiedUpper: json(provedUpper),
 		verdict: agg.verdict,
 		criticalFrequency: agg.criticalFrequency ?? null,
-		threshold: agg.threshold ?? (certifiedUpper === null ? null : json(certifiedUpper)),
+		threshold: agg.threshold ?? (provedUpper === null ? null : json(provedUpper)),
 		margin: agg.margin ?? null,
 		q: agg.q ?? null,
 		class: agg.class ?? null,

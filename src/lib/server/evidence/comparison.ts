@@ -1,4 +1,10 @@
-import { type Check, type Model, sectorGeometry, toTransferFunction } from '../../stability/index';
+import {
+	type Check,
+	type Model,
+	regionMargin,
+	sectorGeometry,
+	toTransferFunction
+} from '../../stability/index';
 import type { MeasuredPoint } from './frequency-response';
 
 // What a measured frequency response says next to a stability specification:
@@ -40,7 +46,7 @@ export function modelResponse(model: Model): (w: number) => Complex {
 
 export type SampledRegion =
 	| { kind: 'disk'; centre: number; radius: number; curveMust: 'stay-outside' | 'stay-inside' }
-	| { kind: 'half-plane'; boundary: number; curveMust: 'stay-right' };
+	| { kind: 'half-plane'; boundary: number; curveMust: 'stay-right' | 'stay-left' };
 
 export interface SampledCheck {
 	label: 'sampled';
@@ -76,7 +82,7 @@ export function regionOf(
 					note: ''
 				}
 			: {
-					region: { kind: 'half-plane', boundary: g.boundary, curveMust: 'stay-right' },
+					region: { kind: 'half-plane', boundary: g.boundary, curveMust: g.curveMust },
 					sector: [k1, k2],
 					note: ''
 				};
@@ -101,9 +107,7 @@ export function regionOf(
 }
 
 function signedMargin(region: SampledRegion, p: Complex): number {
-	if (region.kind === 'half-plane') return p.re - region.boundary;
-	const d = Math.hypot(p.re - region.centre, p.im);
-	return region.curveMust === 'stay-outside' ? d - region.radius : region.radius - d;
+	return regionMargin(region, p.re, p.im);
 }
 
 export function sampledSectorCheck(points: MeasuredPoint[], check: Check): SampledCheck {
@@ -136,7 +140,7 @@ export function sampledSectorCheck(points: MeasuredPoint[], check: Check): Sampl
 	const verdict = violations === 0 ? 'pass' : 'fail';
 	const where =
 		r.region.kind === 'half-plane'
-			? `right of Re G = ${r.region.boundary.toPrecision(4)}`
+			? `${r.region.curveMust === 'stay-left' ? 'left' : 'right'} of Re G = ${r.region.boundary.toPrecision(4)}`
 			: r.region.curveMust === 'stay-outside'
 				? 'outside the disk'
 				: 'inside the disk';

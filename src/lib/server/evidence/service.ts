@@ -6,6 +6,7 @@ import {
 	checkSchema,
 	modelSchema,
 	nyquistCurve,
+	regionMargin,
 	sectorGeometry
 } from '../../stability/index';
 import { type Actor, historyOf, recordEvent } from '../audit';
@@ -773,12 +774,7 @@ export async function compareMeasured(
 		if (sampled.region) {
 			const region = sampled.region;
 			base.plot.measured = resp.points.map((p) => {
-				const m =
-					region.kind === 'half-plane'
-						? p.re - region.boundary
-						: region.curveMust === 'stay-outside'
-							? Math.hypot(p.re - region.centre, p.im) - region.radius
-							: region.radius - Math.hypot(p.re - region.centre, p.im);
+				const m = regionMargin(region, p.re, p.im);
 				return { w: p.w, re: p.re, im: p.im, ok: m > 0 };
 			});
 		}

@@ -1,8 +1,9 @@
 import { z } from 'zod';
-import { modelSchema } from '../../stability/index';
+import { modelSchema, strictIn } from '../../stability/index';
 
 // Loop models and their versions. A version's content is { operatingPoints: [{ label, model }] } with
-// each model in one of the engine's forms (tf / zpk / ss), validated by the engine's own schema.
+// each model in one of the engine's forms (tf / zpk / ss), validated by the engine's own schema. Unknown
+// fields are refused everywhere (a misspelt or unsupported field would otherwise be dropped silently).
 
 export const MODEL_FILE_FORMAT = 'loopwarden-model/1';
 export const MAX_OPERATING_POINTS = 50;
@@ -30,14 +31,17 @@ export const createModelInput = z.object({
 });
 export type CreateModelInput = z.infer<typeof createModelInput>;
 
-export const operatingPoint = z.object({
-	label: z
-		.string({ error: 'Give each operating point a label, e.g. "hover, 20 C".' })
-		.trim()
-		.min(1, 'Give each operating point a label, e.g. "hover, 20 C".')
-		.max(80, 'A label has at most 80 characters.'),
-	model: modelSchema
-});
+export const operatingPoint = z.strictObject(
+	{
+		label: z
+			.string({ error: 'Give each operating point a label, e.g. "hover, 20 C".' })
+			.trim()
+			.min(1, 'Give each operating point a label, e.g. "hover, 20 C".')
+			.max(80, 'A label has at most 80 characters.'),
+		model: modelSchema
+	},
+	strictIn('an operating point')
+);
 export type OperatingPoint = z.infer<typeof operatingPoint>;
 
 const operatingPoints = z
@@ -63,18 +67,24 @@ const note = z
 	.max(4000, 'Use at most 4000 characters.');
 
 /** Body of POST /api/v1/projects/{key}/models/{id}/versions. */
-export const publishInput = z.object({
-	note: note.default(''),
-	operatingPoints
-});
+export const publishInput = z.strictObject(
+	{
+		note: note.default(''),
+		operatingPoints
+	},
+	strictIn('the version')
+);
 export type PublishInput = z.infer<typeof publishInput>;
 
 /** Our upload format: a publish body tagged with its format name (see DEVELOPERS.md). */
-export const modelFile = z.object({
-	format: z.literal(MODEL_FILE_FORMAT, { error: `format must be "${MODEL_FILE_FORMAT}".` }),
-	note: note.optional(),
-	operatingPoints
-});
+export const modelFile = z.strictObject(
+	{
+		format: z.literal(MODEL_FILE_FORMAT, { error: `format must be "${MODEL_FILE_FORMAT}".` }),
+		note: note.optional(),
+		operatingPoints
+	},
+	strictIn('the model file')
+);
 
 /** The publish form: the operating points arrive as JSON text in one field. */
 export const publishForm = z.object({

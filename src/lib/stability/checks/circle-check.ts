@@ -1,6 +1,7 @@
 import type { Plant } from '../model';
 import { type CheckResult, enc } from '../types';
-import { circleCore, diskOf, nyquistDistance } from './circle';
+import { circleCore, nyquistDistance } from './circle';
+import { regionWords } from '../present';
 
 const fmt = (x: number) => (Number.isFinite(x) ? Number(x.toPrecision(6)).toString() : String(x));
 
@@ -14,7 +15,8 @@ export function runCircle(plant: Plant, k1: number, k2: number): CheckResult {
 		x === null || x === undefined ? null : Math.sqrt(Math.max(0, x)) * w0;
 	const dist = nyquistDistance(plant, k1, k2);
 	const sector = `[${fmt(k1)}, ${k2 === Infinity ? 'infinity' : fmt(k2)}]`;
-	const caseName = k1 > 0 ? 'k1 > 0' : k1 === 0 ? 'k1 = 0' : 'k1 < 0';
+	const caseName =
+		k1 === 0 ? 'k1 = 0' : k2 === 0 ? 'k2 = 0' : k1 > 0 ? 'k1 > 0' : k2 < 0 ? 'k1 < k2 < 0' : 'k1 < 0';
 	const criticalFrequency =
 		core.witnessX !== undefined ? wOf(core.argminX ?? core.witnessX) : wOf(core.argminX);
 	const numbers: Record<string, number | string | null> = {
@@ -31,17 +33,11 @@ export function runCircle(plant: Plant, k1: number, k2: number): CheckResult {
 		witnessFrequency: core.witnessX !== undefined ? wOf(core.witnessX) : null,
 		frequencyScale: w0
 	};
-	const geo = diskOf(k1, k2);
-	const region =
-		geo.kind === 'half-plane'
-			? `the half-plane Re G > ${fmt(geo.boundary)}`
-			: k1 > 0
-				? `the outside of the disk centred at ${fmt(geo.centre)} with radius ${fmt(geo.radius)}`
-				: `the inside of the disk centred at ${fmt(geo.centre)} with radius ${fmt(geo.radius)}`;
+	const region = regionWords(k1, k2);
 	let explanation: string;
 	let reason: string | undefined;
 	if (core.pass) {
-		explanation = `Absolutely stable for every nonlinearity in the sector ${sector}: the Nyquist curve stays in ${region}${k1 > 0 ? ' with the required encirclements' : ''}, proved exactly.`;
+		explanation = `Absolutely stable for every nonlinearity in the sector ${sector}: the Nyquist curve stays in ${region}, proved exactly.`;
 	} else {
 		switch (core.failure) {
 			case 'ill-posed':
@@ -50,7 +46,7 @@ export function runCircle(plant: Plant, k1: number, k2: number): CheckResult {
 			case 'hurwitz':
 				reason =
 					k1 === 0
-						? 'The plant is not Hurwitz (a pole with non-negative real part), so the case k1 = 0 cannot certify anything.'
+						? 'The plant is not Hurwitz (a pole with non-negative real part), so the case k1 = 0 proves nothing.'
 						: k1 > 0
 							? `The loop closed with gain k1 = ${fmt(k1)} is unstable: the Nyquist curve does not encircle -1/k1 as many times as G has right-half-plane poles.`
 							: `The loop closed with gain k1 = ${fmt(k1)} is unstable (1 + k1 G has a zero with non-negative real part).`;
@@ -74,7 +70,7 @@ export function runCircle(plant: Plant, k1: number, k2: number): CheckResult {
 		explanation =
 			core.failure === 'undecided'
 				? `Undecided for the sector ${sector}: ${reason.charAt(0).toLowerCase()}${reason.slice(1)}`
-				: `Not certified for the sector ${sector}: ${reason.charAt(0).toLowerCase()}${reason.slice(1)}`;
+				: `Not proved for the sector ${sector}: ${reason.charAt(0).toLowerCase()}${reason.slice(1)}`;
 	}
 	return {
 		type: 'circle',

@@ -116,21 +116,34 @@ function exactTopDegree(P: DPoly, Q: DPoly, n: number): number {
 	return isZero(evenRealPart(P, Q)) ? -1 : n - 2;
 }
 
-/** Disk D(k1, k2) of Khalil section 7.1: centre and radius on the real axis, or the half-plane for k1 = 0. */
+/**
+ * The region of the circle criterion for the sector [k1, k2] (Khalil, Nonlinear Systems, 3rd ed., section 7.1).
+ * Re Z > 0 for Z = (1 + k2 G)/(1 + k1 G) reads 1 + (k1 + k2) Re G + k1 k2 |G|^2 > 0 (k2 finite), so:
+ * k1 k2 > 0: G outside the disk D(k1, k2) whose diameter is [-1/k1, -1/k2] (for k1 < k2 < 0 this disk lies
+ * on the positive real axis: the criterion for -G in the sector [-k2, -k1], mirrored through the origin);
+ * k1 < 0 < k2: G inside D(k1, k2); k1 = 0: the half-plane Re G > -1/k2; k2 = 0 (k1 < 0): the half-plane
+ * Re G < -1/k1. For k2 = infinity, Re[G (1 + k1 G*)] > 0: the disk with diameter [-1/k1, 0] (outside for
+ * k1 > 0, inside for k1 < 0), or Re G > 0 for k1 = 0.
+ */
 export function diskOf(
 	k1: number,
 	k2: number
-): { kind: 'disk'; centre: number; radius: number } | { kind: 'half-plane'; boundary: number } {
-	if (k1 === 0) return { kind: 'half-plane', boundary: k2 === Infinity ? 0 : -1 / k2 };
+):
+	| { kind: 'disk'; centre: number; radius: number; side: 'outside' | 'inside' }
+	| { kind: 'half-plane'; boundary: number; side: 'right' | 'left' } {
+	if (k1 === 0) return { kind: 'half-plane', boundary: k2 === Infinity ? 0 : -1 / k2, side: 'right' };
+	if (k2 === 0) return { kind: 'half-plane', boundary: -1 / k1, side: 'left' };
 	const a = -1 / k1;
 	const b = k2 === Infinity ? 0 : -1 / k2;
-	return { kind: 'disk', centre: (a + b) / 2, radius: Math.abs(a - b) / 2 };
+	const side = k1 < 0 && k2 > 0 ? 'inside' : 'outside';
+	return { kind: 'disk', centre: (a + b) / 2, radius: Math.abs(a - b) / 2, side };
 }
 
 /**
  * Distance of the Nyquist curve from the forbidden region (positive = criterion's geometric condition met
- * with room): k1 = 0: min Re G + 1/k2; k1 > 0: min |G - c| - r (outside the disk); k1 < 0: r - max |G - c|
- * (inside the disk). Numerical, from stationary points of |N - cD|^2 / |D|^2 in x.
+ * with room): half-plane right: min Re G + 1/k2; half-plane left: -1/k1 - max Re G; outside the disk:
+ * min |G - c| - r; inside the disk: r - max |G - c|. Numerical, from stationary points of
+ * |N - cD|^2 / |D|^2 (or Re[N D*] / |D|^2) in x.
  */
 export function nyquistDistance(
 	plant: Plant,
@@ -145,12 +158,20 @@ export function nyquistDistance(
 	const range = xRange(dr);
 	const minRatioOnHalfLine = (u: number[], v: number[]) => minRatioFromCandidates(u, v, cands, range);
 	if (g.kind === 'half-plane') {
-		const m = minRatioOnHalfLine(evenRealPartF(Nf, Df), DD);
-		return { distance: m.value - g.boundary, x: m.x };
+		const re = evenRealPartF(Nf, Df);
+		if (g.side === 'right') {
+			const m = minRatioOnHalfLine(re, DD);
+			return { distance: m.value - g.boundary, x: m.x };
+		}
+		const m = minRatioOnHalfLine(
+			re.map((v) => -v),
+			DD
+		);
+		return { distance: g.boundary + m.value, x: m.x };
 	}
 	const NC = addF(Nf, Df, -g.centre);
 	const U = evenRealPartF(NC, NC);
-	if (k1 > 0) {
+	if (g.side === 'outside') {
 		const m = minRatioOnHalfLine(U, DD);
 		return { distance: Math.sqrt(Math.max(0, m.value)) - g.radius, x: m.x };
 	}

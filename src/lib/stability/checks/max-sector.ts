@@ -9,11 +9,19 @@ import { evenRealPart } from '../exact';
 import { toFloatCommon } from '../fpoly';
 import type { Plant } from '../model';
 import { derivR, hornerR, mulR, positiveRealRoots, subR, trimR } from '../roots';
+import { type MaxSectorLimits, applyMaxSectorLimits } from '../preflight';
 import { type CheckResult, enc } from '../types';
 import { circleCore, zPolys } from './circle';
 import { type GainInterval, hurwitzAtGain, intervalContaining, linearGainIntervals } from './gain-range';
 
 const fmt = (x: number) => (Number.isFinite(x) ? Number(x.toPrecision(6)).toString() : String(x));
+/** Six digits rounded down, so the words never claim more than the proved bound. */
+function fmtDown(x: number): string {
+	if (!Number.isFinite(x) || x === 0) return fmt(x);
+	let p = Number(x.toPrecision(6));
+	if (p > x) p = Number((p - 10 ** (Math.floor(Math.log10(Math.abs(x))) - 5)).toPrecision(6));
+	return p.toString();
+}
 
 export interface MaxSectorCore {
 	feasible: boolean;
@@ -109,8 +117,8 @@ export function maxSectorCore(plant: Plant, k1: number): MaxSectorCore {
 			argminX: null,
 			reason:
 				k1 === 0
-					? 'The plant is not Hurwitz, so no sector [0, k2] can be certified.'
-					: `The loop closed with gain k1 = ${fmt(k1)} is unstable, so no sector with this lower bound can be certified.`
+					? 'The plant is not Hurwitz, so no sector [0, k2] can be proved.'
+					: `The loop closed with gain k1 = ${fmt(k1)} is unstable, so no sector with this lower bound can be proved.`
 		};
 	const est = estimateK2(plant, k1);
 	if (est.k2 === Infinity) {
@@ -196,8 +204,13 @@ function intervalOut(
 	return iv.map((g) => [enc(g.low) as number, enc(g.high) as number]);
 }
 
-export function runMaxSector(plant: Plant, k1: number): CheckResult {
-	const core = maxSectorCore(plant, k1);
+export function runMaxSector(
+	plant: Plant,
+	k1: number,
+	limits: MaxSectorLimits = { illPosedAbove: null, unbounded: false }
+): CheckResult {
+	// Unbounded and ill-posed limits are decided exactly before (or after) the search: preflight.ts.
+	const core = applyMaxSectorLimits(plant, k1, limits, () => maxSectorCore(plant, k1));
 	const iv = linearGainIntervals(plant);
 	const around = intervalContaining(iv, k1) ?? intervalContaining(iv, k1 + 1e-9 * Math.max(1, Math.abs(k1)));
 	const w = core.argminX === null ? null : Math.sqrt(core.argminX) * plant.w0;
@@ -209,14 +222,27 @@ export function runMaxSector(plant: Plant, k1: number): CheckResult {
 		linearGainLow: around ? enc(around.low) : null,
 		linearGainHigh: around ? enc(around.high) : null,
 		linearGainHighFrequency: around ? around.highFrequency : null,
-		frequencyScale: plant.w0
+		frequencyScale: plant.w0,
+		unbounded: limits.unbounded ? 'yes' : 'no',
+		...(limits.unbounded ? { infiniteSectorProved: limits.infiniteSectorProved ? 'yes' : 'no' } : {}),
+		...(limits.illPosedAbove !== null ? { illPosedGain: limits.illPosedAbove } : {})
 	};
 	let explanation: string;
-	if (!core.feasible) explanation = core.reason ?? 'No sector with this lower bound can be certified.';
+	const lin = around ? `[${fmt(around.low)}, ${fmt(around.high)}]` : 'empty around k1';
+	if (!core.feasible) explanation = core.reason ?? 'No sector with this lower bound can be proved.';
+	else if (limits.unbounded)
+		explanation = `Unbounded: the circle criterion proves the sector [${fmt(k1)}, k2] for every finite k2 (exact)${
+			limits.infiniteSectorProved
+				? ', and the sector [' + fmt(k1) + ', infinity] itself'
+				: '; the sector [' + fmt(k1) + ', infinity] itself is not proved'
+		}. Linear gains are stable over ${lin}.`;
 	else {
-		const t = core.threshold === Infinity ? 'infinity' : fmt(core.threshold!);
-		const lin = around ? `[${fmt(around.low)}, ${fmt(around.high)}]` : 'empty around k1';
-		explanation = `The circle criterion certifies sectors up to [${fmt(k1)}, ${t}]; linear gains are stable over ${lin}, which shows what the sufficiency of the criterion costs.`;
+		const t = core.threshold === Infinity ? 'infinity' : fmtDown(core.threshold!);
+		const ill =
+			limits.illPosedAbove !== null && core.failAbove === limits.illPosedAbove
+				? ` It stops short of k = ${fmt(limits.illPosedAbove)}, where 1 + k G(inf) = 0 and the loop is not well posed.`
+				: '';
+		explanation = `The circle criterion proves sectors up to [${fmt(k1)}, ${t}]; linear gains are stable over ${lin}, which shows what the sufficiency of the criterion costs.${ill}`;
 	}
 	return {
 		type: 'max-sector',
@@ -231,9 +257,9 @@ export function runMaxSector(plant: Plant, k1: number): CheckResult {
 			: {
 					reason:
 						core.reason ??
-						'No sector above k1 could be certified within the work limit of the exact fallback (the floating-point filter cannot resolve this plant, e.g. highly repeated lightly damped factors).'
+						'No sector above k1 could be proved within the work limit of the exact fallback (the floating-point filter cannot resolve this plant, e.g. highly repeated lightly damped factors).'
 				}),
 		assumptions:
-			'The threshold is certified by the exact circle test; the linear gain range holds for constant gains only, the sector for any nonlinearity in it.'
+			'The threshold is proved by the exact circle test; the linear gain range holds for constant gains only, the sector for any nonlinearity in it.'
 	};
 }

@@ -25,6 +25,7 @@ import { certifiedHurwitz, certifiedPositiveOnHalfLine } from '../certify';
 import { addF, toFloatCommon } from '../fpoly';
 import type { Plant } from '../model';
 import { minRatioOnHalfLine } from '../roots';
+import { popovMultipliers } from '../preflight';
 import { type CheckResult, enc } from '../types';
 
 const fmt = (x: number) => (Number.isFinite(x) ? Number(x.toPrecision(6)).toString() : String(x));
@@ -210,7 +211,10 @@ export function popovCore(plant: Plant): PopovCore {
 			argminX: null
 		};
 	const pp = popovPolys(plant);
-	const best = maximiseG(pp);
+	// Theorem 7.3 excludes a q with -1/q an eigenvalue of A: the multiplier is moved off one (preflight.ts).
+	const found = maximiseG(pp);
+	const qOk = popovMultipliers(plant, [found.q])[0] ?? found.q;
+	const best = qOk === found.q ? found : (({ value, x }) => ({ q: qOk, g: value, x }))(gOf(pp, qOk));
 	const threshold = best.g >= 0 ? Infinity : -1 / best.g;
 	// Certify a threshold with q*: largest of a few values just below the estimate that passes exactly.
 	let thresholdCertified: number | null = null;
@@ -278,6 +282,8 @@ export function runPopov(plant: Plant, k: number): CheckResult {
 		k,
 		q,
 		thresholdEstimate: enc(core.threshold),
+		thresholdProvedWithQ: enc(core.thresholdCertified),
+		// Old name, kept for one engine version so readers of recorded results keep working.
 		thresholdCertifiedWithQ: enc(core.thresholdCertified),
 		minPopovReal: core.gBest,
 		frequencyScale: w0
@@ -285,7 +291,7 @@ export function runPopov(plant: Plant, k: number): CheckResult {
 	const critical = core.argminX === null ? null : Math.sqrt(core.argminX) * w0;
 	const threshold = core.thresholdCertified;
 	// Try q*, then q = 0 (the circle-criterion multiplier) for this k.
-	for (const qs of [core.qScaled, 0]) {
+	for (const qs of popovMultipliers(plant, [core.qScaled, 0])) {
 		const E = popovE(pp, k, qs);
 		const pos = certifiedPositiveOnHalfLine(E, core.argminX !== null ? [core.argminX] : []);
 		if (pos.positive) {
@@ -298,7 +304,7 @@ export function runPopov(plant: Plant, k: number): CheckResult {
 				criticalFrequency: critical,
 				margin: 1 / k + core.gBest,
 				numbers: { ...numbers, q: qq, positivityDecidedBy: pos.path },
-				explanation: `Absolutely stable for every time-invariant nonlinearity in [0, ${fmt(k)}]: the Popov line through -1/k with slope 1/q, q = ${fmt(qq)} s, is certified exactly.`
+				explanation: `Absolutely stable for every time-invariant nonlinearity in [0, ${fmt(k)}]: the Popov line through -1/k with slope 1/q, q = ${fmt(qq)} s, is proved exactly.`
 			};
 		}
 	}
@@ -325,11 +331,11 @@ export function runPopov(plant: Plant, k: number): CheckResult {
 			criticalFrequency: critical,
 			margin: 1 / k + core.gBest,
 			numbers: { ...numbers, witnessFrequencies: wit.map((x) => Math.sqrt(x) * w0).join(',') },
-			explanation: `Not certified for [0, ${fmt(k)}]: the Popov criterion certifies sectors up to [0, ${threshold === Infinity ? 'infinity' : fmt(threshold ?? NaN)}] only.`,
+			explanation: `Not proved for [0, ${fmt(k)}]: the Popov criterion proves sectors up to [0, ${threshold === Infinity ? 'infinity' : fmt(threshold ?? NaN)}] only.`,
 			reason
 		};
 	}
-	const reason = `The best multiplier found (q = ${fmt(q)} s) does not certify k = ${fmt(k)}, and no exact proof that none exists was found (k is within numerical reach of the Popov limit ${fmt(core.threshold)}).`;
+	const reason = `The best multiplier found (q = ${fmt(q)} s) does not prove k = ${fmt(k)}, and no exact proof that none exists was found (k is within numerical reach of the Popov limit ${fmt(core.threshold)}).`;
 	return {
 		...base,
 		verdict: 'inconclusive',

@@ -7,6 +7,9 @@
 // function has relative degree 0 or 1 (from memory; it follows from the residue condition at infinity).
 // The non-strict case is decided exactly except for the residues at imaginary-axis poles away from the
 // origin, which are evaluated numerically (stated in the result).
+// Hidden modes are decided before this test, for the model as entered (preflight.ts): one on or right of
+// the imaginary axis makes the class "neither" there; those that reach this file lie in the open left
+// half-plane, where cancelling them (the PR part below) and keeping them (the SPR part) give the same class.
 import {
 	type DPoly,
 	bitLength,
