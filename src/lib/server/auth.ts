@@ -3,8 +3,16 @@ import Credentials from '@auth/sveltekit/providers/credentials';
 import { decode } from '@auth/core/jwt';
 import { error, redirect, type RequestEvent } from '@sveltejs/kit';
 import { env } from '$env/dynamic/private';
-import type { ProjectRow, UserRow } from './identity/repo';
+import type { OwnedKind, ProjectRow, UserRow } from './identity/repo';
 import type { Role } from './identity/roles';
+import {
+	allows,
+	capabilities,
+	rolesFor,
+	type ActingRole,
+	type Capabilities,
+	type Capability
+} from './identity/roles';
 import { signInForm } from './identity/schema';
 import {
 	activeIdentity,
@@ -12,6 +20,7 @@ import {
 	checkCredentials,
 	consumePrecheck,
 	projectByKey,
+	projectOwning,
 	roleIn,
 	type MemberOf
 } from './identity/service';
@@ -133,6 +142,131 @@ function unauthenticated(event: RequestEvent): never {
 	redirect(303, `/signin?redirectTo=${encodeURIComponent(to)}`);
 }
 
+/** What a route addresses in a project: the project by its key, a resource by its id, or both. */
+export interface ProjectTarget {
+	/** The project key of the address; with a resource id, the resource must belong to it. */
+	project?: string;
+	requirement?: number;
+	model?: number;
+	evidence?: number;
+	run?: number;
+	baseline?: number;
+}
+
+export interface Access {
+	user: UserRow;
+	project: ProjectRef;
+	/** The role the caller acts with: the member's (or the API token's) role, or 'admin' where the site-administrator rule allows what that role would not. */
+	role: ActingRole;
+	/** The resource addressed by id, once it is known to belong to `project`. */
+	resource: { kind: OwnedKind; id: number } | null;
+	/** The capability flags from the one role table; pages show their buttons from these. */
+	can: Capabilities;
+}
+
+type ProjectRef = Pick<ProjectRow, 'id' | 'key' | 'name' | 'description'>;
+
+const KIND_WORDS: Record<OwnedKind, string> = {
+	requirement: 'requirement',
+	model: 'model',
+	evidence: 'evidence',
+	run: 'analysis run',
+	baseline: 'baseline'
+};
+
+function ownedOf(target: ProjectTarget): { kind: OwnedKind; id: number } | null {
+	const given = (Object.keys(KIND_WORDS) as OwnedKind[]).filter((k) => target[k] !== undefined);
+	if (given.length > 1) throw new Error(`access(): one resource at a time, not ${given.join(' and ')}`);
+	if (!given.length) {
+		if (target.project === undefined) throw new Error('access(): name a project or a resource');
+		return null;
+	}
+	return { kind: given[0], id: target[given[0]]! };
+}
+
+const refOf = (p: ProjectRef): ProjectRef => ({
+	id: Number(p.id),
+	key: p.key,
+	name: p.name,
+	description: p.description
+});
+
+/**
+ * The one access decision for every page, form action and endpoint.
+ * - 'account': any signed-in user (their own account).
+ * - 'site': site administration; signed-in site administrators only, never through an API token.
+ * - a project target with the capability the route needs (default 'read'): the caller must be a
+ *   member of the project (a site administrator always is), the resource must belong to it, and the
+ *   role table (identity/roles.ts) must allow the capability for the caller's role.
+ * Sign-in is checked before anything is looked up, so an anonymous caller learns nothing about which
+ * projects or ids exist (401 for the API, the sign-in page otherwise). A resource of another project
+ * addressed through this project's URL is a 404, like one that does not exist. An API token is
+ * scoped to one project and acts with its own role only, while its owner is still a member (or a
+ * site administrator).
+ */
+export async function access(event: RequestEvent, target: 'account' | 'site'): Promise<{ user: UserRow }>;
+export async function access(event: RequestEvent, target: ProjectTarget, need?: Capability): Promise<Access>;
+export async function access(
+	event: RequestEvent,
+	target: 'account' | 'site' | ProjectTarget,
+	need: Capability = 'read'
+): Promise<Access | { user: UserRow }> {
+	const user = event.locals.user;
+	if (!user) unauthenticated(event);
+	const token = event.locals.apiToken;
+	if (target === 'account') return { user };
+	if (target === 'site') {
+		if (!user.site_admin || token) error(403, { message: 'Only site administrators may do this.' });
+		return { user };
+	}
+	const resource = ownedOf(target);
+	// A session's memberships were read with the user at the start of this request.
+	const memberships = token ? null : event.locals.memberships;
+
+	let project: ProjectRef | undefined;
+	if (target.project !== undefined) {
+		project = memberships?.find((m) => m.key === target.project) ?? (await projectByKey(target.project));
+		if (!project) error(404, { message: `There is no project ${target.project}.` });
+	} else {
+		const { kind, id } = resource!;
+		project = await projectOwning(kind, id);
+		if (!project) error(404, { message: `There is no ${KIND_WORDS[kind]} ${id}.` });
+	}
+	project = refOf(project);
+
+	if (token && token.projectId !== project.id)
+		error(403, { message: `This API token is scoped to another project, not ${project.key}.` });
+	let role: ActingRole | undefined;
+	// A token acts with its own role, and only while its owner is still a member (or a site admin).
+	if (token) role = user.site_admin || (await roleIn(user.id, project.id)) ? token.role : undefined;
+	else {
+		const member = memberships
+			? memberships.find((m) => Number(m.id) === project.id)?.role
+			: await roleIn(user.id, project.id);
+		role = member ?? (user.site_admin ? 'admin' : undefined);
+	}
+	if (!role) error(403, { message: `You are not a member of project ${project.key}.` });
+
+	// Addressed through a project's URL: the resource must be that project's (checked after membership,
+	// so a non-member learns nothing about the project's ids either).
+	if (resource && target.project !== undefined) {
+		const owner = await projectOwning(resource.kind, resource.id);
+		if (!owner || Number(owner.id) !== project.id)
+			error(404, { message: `There is no ${KIND_WORDS[resource.kind]} ${resource.id} in ${project.key}.` });
+	}
+
+	const siteAdmin = user.site_admin && !token;
+	if (!allows(role, siteAdmin, need))
+		error(403, {
+			message: `Your role in ${project.key} (${role}) does not allow this; it needs ${rolesFor(need)}.`
+		});
+	// A site administrator doing what their own role in the project would not acts as 'admin' (so a
+	// review, for one, records under which rule it was allowed).
+	const acting = allows(role, false, need) ? role : 'admin';
+	return { user, project, role: acting, resource, can: capabilities(role, siteAdmin) };
+}
+
+// --- old guards, removed once every route uses access() ---
 /** Any signed-in, active user. */
 export function requireUser(event: RequestEvent): UserRow {
 	const user = event.locals.user;
