@@ -1,7 +1,7 @@
 import { ENGINE_VERSION } from '../../stability/index';
 import { db } from '../db';
 import { ServiceError } from '../errors';
-import { currentSpec, graphRows, requirementProject, runProject, runs, type RunRow } from './repo';
+import { currentSpec, graphRows, requirementProject, runs, type RunRow } from './repo';
 import { analysisStates, type AnalysisStateInfo } from './state';
 
 // Reading analysis runs: what the requirement page, the API and the trace graph show.
@@ -37,19 +37,6 @@ export function presentRun(r: Omit<RunRow, 'curves'> & { curves?: unknown }, wit
 	};
 }
 export type PresentedRun = ReturnType<typeof presentRun>;
-
-/** Project key of a requirement (for the guard of routes keyed by a requirement id), or 404. */
-export async function projectKeyOfRequirement(requirementId: number): Promise<string> {
-	const r = await requirementProject(db(), requirementId);
-	if (!r) throw new ServiceError(404, `There is no requirement ${requirementId}.`);
-	return r.project_key;
-}
-
-export async function projectKeyOfRun(runId: number): Promise<string> {
-	const r = await runProject(db(), runId);
-	if (!r) throw new ServiceError(404, `There is no analysis run ${runId}.`);
-	return r.project_key;
-}
 
 export interface RequirementAnalyses {
 	requirementId: number;
