@@ -4,7 +4,6 @@ import { decode } from '@auth/core/jwt';
 import { error, redirect, type RequestEvent } from '@sveltejs/kit';
 import { env } from '$env/dynamic/private';
 import type { OwnedKind, ProjectRow, UserRow } from './identity/repo';
-import type { Role } from './identity/roles';
 import {
 	allows,
 	capabilities,
@@ -153,15 +152,26 @@ export interface ProjectTarget {
 	baseline?: number;
 }
 
-export interface Access {
+/** The kind of resource a target names by id (never when it names only the project). */
+type KindOf<T> = { [K in OwnedKind]: T extends Record<K, number> ? K : never }[OwnedKind];
+
+export interface Access<T extends ProjectTarget = ProjectTarget> {
 	user: UserRow;
 	project: ProjectRef;
 	/** The role the caller acts with: the member's (or the API token's) role, or 'admin' where the site-administrator rule allows what that role would not. */
 	role: ActingRole;
 	/** The resource addressed by id, once it is known to belong to `project`. */
-	resource: { kind: OwnedKind; id: number } | null;
+	resource: [KindOf<T>] extends [never] ? null : { kind: KindOf<T>; id: number };
 	/** The capability flags from the one role table; pages show their buttons from these. */
 	can: Capabilities;
+}
+
+/** A page's address /p/[key]/<kind>s/[id]: the resource of that id in the project of that key. */
+export function inAddress<K extends OwnedKind>(
+	params: { key?: string; id?: string },
+	kind: K
+): { project: string } & Record<K, number> {
+	return { project: params.key!, [kind]: Number(params.id) } as { project: string } & Record<K, number>;
 }
 
 type ProjectRef = Pick<ProjectRow, 'id' | 'key' | 'name' | 'description'>;
@@ -205,12 +215,16 @@ const refOf = (p: ProjectRef): ProjectRef => ({
  * site administrator).
  */
 export async function access(event: RequestEvent, target: 'account' | 'site'): Promise<{ user: UserRow }>;
-export async function access(event: RequestEvent, target: ProjectTarget, need?: Capability): Promise<Access>;
+export async function access<T extends ProjectTarget>(
+	event: RequestEvent,
+	target: T,
+	need?: Capability
+): Promise<Access<T>>;
 export async function access(
 	event: RequestEvent,
 	target: 'account' | 'site' | ProjectTarget,
 	need: Capability = 'read'
-): Promise<Access | { user: UserRow }> {
+): Promise<{ user: UserRow }> {
 	const user = event.locals.user;
 	if (!user) unauthenticated(event);
 	const token = event.locals.apiToken;
@@ -263,69 +277,12 @@ export async function access(
 	// A site administrator doing what their own role in the project would not acts as 'admin' (so a
 	// review, for one, records under which rule it was allowed).
 	const acting = allows(role, false, need) ? role : 'admin';
-	return { user, project, role: acting, resource, can: capabilities(role, siteAdmin) };
-}
-
-// --- old guards, removed once every route uses access() ---
-/** Any signed-in, active user. */
-export function requireUser(event: RequestEvent): UserRow {
-	const user = event.locals.user;
-	if (!user) unauthenticated(event);
-	return user;
-}
-
-/** Site administrators only. */
-export function requireAdmin(event: RequestEvent): UserRow {
-	const user = requireUser(event);
-	if (!user.site_admin || event.locals.apiToken)
-		error(403, { message: 'Only site administrators may do this.' });
-	return user;
-}
-
-export interface ProjectAccess {
-	user: UserRow;
-	project: Omit<ProjectRow, 'created_at'>;
-	/** The member's role, or 'admin' for a site administrator who is not a member. */
-	role: Role | 'admin';
-}
-
-/**
- * The one guard. Every load, form action and endpoint under a project calls it with the roles
- * allowed to do what it does; `roles` omitted means any member may (read access).
- * Site administrators may do everything. An API token is scoped to one project and one role.
- */
-export async function requireRole(
-	event: RequestEvent,
-	projectKey: string,
-	roles?: readonly Role[]
-): Promise<ProjectAccess> {
-	const user = requireUser(event);
-	const token = event.locals.apiToken;
-	// A session's memberships were read with the user at the start of this request.
-	const member = token ? undefined : event.locals.memberships?.find((m) => m.key === projectKey);
-	if (member) {
-		const { role, ...project } = member;
-		if (!roles || roles.includes(role) || user.site_admin) return { user, project, role };
-		error(403, {
-			message: `Your role in ${project.key} (${role}) does not allow this; it needs ${roles.join(' or ')}.`
-		});
-	}
-	const project = await projectByKey(projectKey);
-	if (!project) error(404, { message: `There is no project ${projectKey}.` });
-	if (token && token.projectId !== project.id) {
-		error(403, { message: `This API token is scoped to another project, not ${project.key}.` });
-	}
-	let role: Role | 'admin' | undefined;
-	// A token acts with its own role, and only while its owner is still a member (or an admin).
-	if (token) role = user.site_admin || (await roleIn(user.id, project.id)) ? token.role : undefined;
-	else if (user.site_admin) role = (await roleIn(user.id, project.id)) ?? 'admin';
-	else role = await roleIn(user.id, project.id);
-	if (!role) error(403, { message: `You are not a member of project ${project.key}.` });
-	const allowed = role === 'admin' || (user.site_admin && !token) || !roles || roles.includes(role);
-	if (!allowed) {
-		error(403, {
-			message: `Your role in ${project.key} (${role}) does not allow this; it needs ${roles!.join(' or ')}.`
-		});
-	}
-	return { user, project, role };
+	const decided: Omit<Access, 'resource'> & { resource: { kind: OwnedKind; id: number } | null } = {
+		user,
+		project,
+		role: acting,
+		resource,
+		can: capabilities(role, siteAdmin)
+	};
+	return decided;
 }
