@@ -1,5 +1,5 @@
-import { createHash } from 'node:crypto';
 import {
+	createBaseline,
 	createEvidence,
 	createModel,
 	createModelVersion,
@@ -231,7 +231,7 @@ export const cases: RouteCase[] = [
 /** One of each resource in the outsider's project (the team project's `other`). */
 export async function prepare(ctx: PrepareContext): Promise<Record<string, string>> {
 	const db = testDb();
-	const p = await db('projects').where({ key: ctx.otherProjectKey }).first('id', 'key', 'name');
+	const p = await db('projects').where({ key: ctx.otherProjectKey }).first('id');
 	const projectId = Number(p.id);
 	const model = await createModel(projectId, { name: 'other project loop' });
 	await createModelVersion(model.id);
@@ -239,27 +239,7 @@ export async function prepare(ctx: PrepareContext): Promise<Record<string, strin
 	await createSpec(req.id, { modelId: model.id, check: { type: 'circle', sector: [0, 1] } });
 	const run = await createRun(req.id, { engineVersion: ENGINE_VERSION, verdict: 'pass' });
 	const ev = await createEvidence(projectId, [req.id]);
-	const manifest = JSON.stringify({
-		format: 'loopwarden-snapshot/1',
-		project: { key: p.key, name: p.name },
-		engineVersion: 'test',
-		requirements: [],
-		links: [],
-		modelVersions: [],
-		evidence: []
-	});
-	const [b] = await db('baselines')
-		.insert({
-			project_id: projectId,
-			number: 1,
-			label: 'Other project baseline',
-			manifest,
-			manifest_hash: createHash('sha256').update(manifest).digest('hex'),
-			engine_version: 'test',
-			requirement_count: 0,
-			created_by_label: 'route table'
-		})
-		.returning('id');
+	const b = await createBaseline(projectId, 'Other project baseline');
 	return {
 		otherID: String(req.id),
 		otherMODEL: String(model.id),
