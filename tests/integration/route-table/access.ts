@@ -185,7 +185,7 @@ const missing = (path: string) => path.replace(/\{(ID|MODEL|EVIDENCE|BASELINE|RU
 const elsewhere = (path: string) =>
 	path.replace(/\{(ID|MODEL|EVIDENCE|BASELINE|RUN)\}/g, (_, k: string) => `{other${k}}`);
 
-export const cases: RouteCase[] = [
+const edges: Omit<RouteCase, 'edge'>[] = [
 	...inProject.map((c) => ({
 		...c,
 		path: missing(c.path),
@@ -227,6 +227,8 @@ export const cases: RouteCase[] = [
 		expect: missingApi
 	}
 ];
+
+export const cases: RouteCase[] = edges.map((c) => ({ ...c, edge: true }));
 
 /** One of each resource in the outsider's project (the team project's `other`). */
 export async function prepare(ctx: PrepareContext): Promise<Record<string, string>> {
