@@ -3,7 +3,7 @@ import { config } from '$lib/server/config';
 import type { LayoutServerLoad } from './$types';
 
 // Display data for the shell only (who is signed in, the project switcher). Access decisions are
-// made by requireRole in each page's own load, which runs on every request.
+// made by access() in each page's own load, which runs on every request.
 export const load = (async ({ locals }) => {
 	const user = locals.user;
 	return {

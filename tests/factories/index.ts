@@ -376,3 +376,32 @@ export async function reviewEvidence(
 		sha256: f.sha256
 	});
 }
+
+/** A frozen baseline with an empty manifest (a valid frozen state), inserted directly. */
+export async function createBaseline(projectId: number, label = 'Route table baseline') {
+	const db = testDb();
+	const p = await db('projects').where({ id: projectId }).first('key', 'name');
+	const last = await db('baselines').where({ project_id: projectId }).max('number as n').first();
+	const text = JSON.stringify({
+		format: 'loopwarden-snapshot/1',
+		project: { key: p.key, name: p.name },
+		engineVersion: 'test',
+		requirements: [],
+		links: [],
+		modelVersions: [],
+		evidence: []
+	});
+	const [b] = await db('baselines')
+		.insert({
+			project_id: projectId,
+			number: Number(last?.n ?? 0) + 1,
+			label,
+			manifest: text,
+			manifest_hash: sha(text),
+			engine_version: 'test',
+			requirement_count: 0,
+			created_by_label: 'route table'
+		})
+		.returning('id');
+	return { id: Number(b.id) };
+}

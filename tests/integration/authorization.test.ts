@@ -1,8 +1,8 @@
 import { readdirSync, readFileSync, statSync } from 'node:fs';
 import { join, relative } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { closeTestDb, createTeam } from '../factories';
-import { Client, signedIn } from '../helpers/http';
+import { addMember, closeTestDb, createTeam, createUser } from '../factories';
+import { Client, decodeDevalue, signedIn } from '../helpers/http';
 import { CALLERS, type Caller, type Outcome, type RouteCase } from './route-table/types';
 
 // Every page, form action and endpoint against every kind of caller. The list of routes is read
@@ -12,9 +12,14 @@ const modules = import.meta.glob<{
 	cases: RouteCase[];
 	prepare?: (ctx: PrepareContext) => Promise<Record<string, string>>;
 }>('./route-table/*.ts', { eager: true });
+type Users = Awaited<ReturnType<typeof createTeam>>['users'] & {
+	adminViewer: Awaited<ReturnType<typeof createUser>>;
+};
 export interface PrepareContext {
 	projectKey: string;
-	users: Awaited<ReturnType<typeof createTeam>>['users'];
+	/** The outsider's project: its resources, addressed through the team project's URLs, are 404s. */
+	otherProjectKey: string;
+	users: Users;
 }
 const allCases: RouteCase[] = Object.values(modules).flatMap((m) => m.cases ?? []);
 
@@ -69,21 +74,25 @@ describe('every route has a decision for every caller', () => {
 
 describe('role-by-route outcomes', () => {
 	let team: Awaited<ReturnType<typeof createTeam>>;
+	let users: Users;
 	const clients = {} as Record<Caller, Client>;
 	const fill: Record<string, string> = {};
 
 	async function clientFor(caller: Caller): Promise<Client> {
 		if (caller === 'anonymous') return new Client();
-		const u = team.users[caller];
+		const u = users[caller];
 		return signedIn(u.email, u.password);
 	}
 
 	beforeAll(async () => {
 		team = await createTeam();
+		const adminViewer = await createUser({ name: 'Admin viewer', admin: true });
+		await addMember(adminViewer.id, team.project.id, 'viewer');
+		users = { ...team.users, adminViewer };
 		fill.key = team.project.key;
+		const ctx = { projectKey: team.project.key, otherProjectKey: team.other.key, users };
 		for (const m of Object.values(modules)) {
-			if (m.prepare)
-				Object.assign(fill, await m.prepare({ projectKey: team.project.key, users: team.users }));
+			if (m.prepare) Object.assign(fill, await m.prepare(ctx));
 		}
 		for (const c of CALLERS) clients[c] = await clientFor(c);
 	});
@@ -140,4 +149,57 @@ describe('role-by-route outcomes', () => {
 		expect(wrong).toEqual([]);
 		expect(checked).toBe(allCases.length * CALLERS.length);
 	}, 180_000);
+
+	// A page's buttons come from the capability flags the server checks. The grants are written out
+	// here as the product's rules (the same as the route table above says per action), not read from
+	// the role table under test; the site administrators get everything, also as a viewer member.
+	const ALL = [
+		'freezeBaselines',
+		'read',
+		'reviewEvidence',
+		'setTolerance',
+		'uploadEvidence',
+		'writeModels',
+		'writeRequirements'
+	];
+	const GRANTED: Partial<Record<Caller, string[]>> = {
+		viewer: ['read'],
+		engineer: ['read', 'setTolerance', 'uploadEvidence', 'writeRequirements'],
+		analyst: ['read', 'setTolerance', 'uploadEvidence', 'writeModels'],
+		certifier: ['freezeBaselines', 'read', 'reviewEvidence', 'uploadEvidence'],
+		admin: ALL,
+		adminViewer: ALL
+	};
+	const PAGES_WITH_BUTTONS = [
+		'/p/{key}/requirements',
+		'/p/{key}/requirements/{rqPageId}',
+		'/p/{key}/models',
+		'/p/{key}/models/{modelId}',
+		'/p/{key}/evidence',
+		'/p/{key}/evidence/{evidenceId}',
+		'/p/{key}/baselines'
+	];
+
+	it('every page offers exactly what the role table allows the caller', async () => {
+		const wrong: string[] = [];
+		for (const page of PAGES_WITH_BUTTONS) {
+			const path = page.replace(/\{(\w+)\}/g, (_, k) => fill[k]);
+			for (const [caller, granted] of Object.entries(GRANTED) as [Caller, string[]][]) {
+				const res = await clients[caller].get(`${path}/__data.json`, { accept: 'application/json' });
+				const body = (await res.json()) as { type: string; nodes?: ({ data?: unknown[] } | null)[] };
+				const node = body.nodes?.at(-1);
+				const data = node?.data ? decodeDevalue(JSON.stringify(node.data)) : undefined;
+				const can = data?.can as Record<string, boolean> | undefined;
+				const got = can
+					? Object.entries(can)
+							.filter(([, v]) => v === true)
+							.map(([k]) => k)
+							.sort()
+					: `no capability flags (${res.status} ${body.type})`;
+				if (JSON.stringify(got) !== JSON.stringify(granted))
+					wrong.push(`${page} as ${caller}: expected ${granted.join(', ')}, got ${String(got)}`);
+			}
+		}
+		expect(wrong).toEqual([]);
+	});
 });

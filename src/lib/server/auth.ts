@@ -3,8 +3,15 @@ import Credentials from '@auth/sveltekit/providers/credentials';
 import { decode } from '@auth/core/jwt';
 import { error, redirect, type RequestEvent } from '@sveltejs/kit';
 import { env } from '$env/dynamic/private';
-import type { ProjectRow, UserRow } from './identity/repo';
-import type { Role } from './identity/roles';
+import type { OwnedKind, ProjectRow, UserRow } from './identity/repo';
+import {
+	allows,
+	capabilities,
+	rolesFor,
+	type ActingRole,
+	type Capabilities,
+	type Capability
+} from './identity/roles';
 import { signInForm } from './identity/schema';
 import {
 	activeIdentity,
@@ -12,6 +19,7 @@ import {
 	checkCredentials,
 	consumePrecheck,
 	projectByKey,
+	projectOwning,
 	roleIn,
 	type MemberOf
 } from './identity/service';
@@ -133,65 +141,148 @@ function unauthenticated(event: RequestEvent): never {
 	redirect(303, `/signin?redirectTo=${encodeURIComponent(to)}`);
 }
 
-/** Any signed-in, active user. */
-export function requireUser(event: RequestEvent): UserRow {
-	const user = event.locals.user;
-	if (!user) unauthenticated(event);
-	return user;
+/** What a route addresses in a project: the project by its key, a resource by its id, or both. */
+export interface ProjectTarget {
+	/** The project key of the address; with a resource id, the resource must belong to it. */
+	project?: string;
+	requirement?: number;
+	model?: number;
+	evidence?: number;
+	run?: number;
+	baseline?: number;
 }
 
-/** Site administrators only. */
-export function requireAdmin(event: RequestEvent): UserRow {
-	const user = requireUser(event);
-	if (!user.site_admin || event.locals.apiToken)
-		error(403, { message: 'Only site administrators may do this.' });
-	return user;
-}
+/** The kind of resource a target names by id (never when it names only the project). */
+type KindOf<T> = { [K in OwnedKind]: T extends Record<K, number> ? K : never }[OwnedKind];
 
-export interface ProjectAccess {
+export interface Access<T extends ProjectTarget = ProjectTarget> {
 	user: UserRow;
-	project: Omit<ProjectRow, 'created_at'>;
-	/** The member's role, or 'admin' for a site administrator who is not a member. */
-	role: Role | 'admin';
+	project: ProjectRef;
+	/** The role the caller acts with: the member's (or the API token's) role, or 'admin' where the site-administrator rule allows what that role would not. */
+	role: ActingRole;
+	/** The resource addressed by id, once it is known to belong to `project`. */
+	resource: [KindOf<T>] extends [never] ? null : { kind: KindOf<T>; id: number };
+	/** The capability flags from the one role table; pages show their buttons from these. */
+	can: Capabilities;
 }
+
+/** A page's address /p/[key]/<kind>s/[id]: the resource of that id in the project of that key. */
+export function inAddress<K extends OwnedKind>(
+	params: { key?: string; id?: string },
+	kind: K
+): { project: string } & Record<K, number> {
+	return { project: params.key!, [kind]: Number(params.id) } as { project: string } & Record<K, number>;
+}
+
+type ProjectRef = Pick<ProjectRow, 'id' | 'key' | 'name' | 'description'>;
+
+const KIND_WORDS: Record<OwnedKind, string> = {
+	requirement: 'requirement',
+	model: 'model',
+	evidence: 'evidence',
+	run: 'analysis run',
+	baseline: 'baseline'
+};
+
+function ownedOf(target: ProjectTarget): { kind: OwnedKind; id: number } | null {
+	const given = (Object.keys(KIND_WORDS) as OwnedKind[]).filter((k) => target[k] !== undefined);
+	if (given.length > 1) throw new Error(`access(): one resource at a time, not ${given.join(' and ')}`);
+	if (!given.length) {
+		if (target.project === undefined) throw new Error('access(): name a project or a resource');
+		return null;
+	}
+	return { kind: given[0], id: target[given[0]]! };
+}
+
+const refOf = (p: ProjectRef): ProjectRef => ({
+	id: Number(p.id),
+	key: p.key,
+	name: p.name,
+	description: p.description
+});
 
 /**
- * The one guard. Every load, form action and endpoint under a project calls it with the roles
- * allowed to do what it does; `roles` omitted means any member may (read access).
- * Site administrators may do everything. An API token is scoped to one project and one role.
+ * The one access decision for every page, form action and endpoint.
+ * - 'account': any signed-in user (their own account).
+ * - 'site': site administration; signed-in site administrators only, never through an API token.
+ * - a project target with the capability the route needs (default 'read'): the caller must be a
+ *   member of the project (a site administrator always is), the resource must belong to it, and the
+ *   role table (identity/roles.ts) must allow the capability for the caller's role.
+ * Sign-in is checked before anything is looked up, so an anonymous caller learns nothing about which
+ * projects or ids exist (401 for the API, the sign-in page otherwise). A resource of another project
+ * addressed through this project's URL is a 404, like one that does not exist. An API token is
+ * scoped to one project and acts with its own role only, while its owner is still a member (or a
+ * site administrator).
  */
-export async function requireRole(
+export async function access(event: RequestEvent, target: 'account' | 'site'): Promise<{ user: UserRow }>;
+export async function access<T extends ProjectTarget>(
 	event: RequestEvent,
-	projectKey: string,
-	roles?: readonly Role[]
-): Promise<ProjectAccess> {
-	const user = requireUser(event);
+	target: T,
+	need?: Capability
+): Promise<Access<T>>;
+export async function access(
+	event: RequestEvent,
+	target: 'account' | 'site' | ProjectTarget,
+	need: Capability = 'read'
+): Promise<{ user: UserRow }> {
+	const user = event.locals.user;
+	if (!user) unauthenticated(event);
 	const token = event.locals.apiToken;
+	if (target === 'account') return { user };
+	if (target === 'site') {
+		if (!user.site_admin || token) error(403, { message: 'Only site administrators may do this.' });
+		return { user };
+	}
+	const resource = ownedOf(target);
 	// A session's memberships were read with the user at the start of this request.
-	const member = token ? undefined : event.locals.memberships?.find((m) => m.key === projectKey);
-	if (member) {
-		const { role, ...project } = member;
-		if (!roles || roles.includes(role) || user.site_admin) return { user, project, role };
-		error(403, {
-			message: `Your role in ${project.key} (${role}) does not allow this; it needs ${roles.join(' or ')}.`
-		});
+	const memberships = token ? null : event.locals.memberships;
+
+	let project: ProjectRef | undefined;
+	if (target.project !== undefined) {
+		project = memberships?.find((m) => m.key === target.project) ?? (await projectByKey(target.project));
+		if (!project) error(404, { message: `There is no project ${target.project}.` });
+	} else {
+		const { kind, id } = resource!;
+		project = await projectOwning(kind, id);
+		if (!project) error(404, { message: `There is no ${KIND_WORDS[kind]} ${id}.` });
 	}
-	const project = await projectByKey(projectKey);
-	if (!project) error(404, { message: `There is no project ${projectKey}.` });
-	if (token && token.projectId !== project.id) {
+	project = refOf(project);
+
+	if (token && token.projectId !== project.id)
 		error(403, { message: `This API token is scoped to another project, not ${project.key}.` });
-	}
-	let role: Role | 'admin' | undefined;
-	// A token acts with its own role, and only while its owner is still a member (or an admin).
+	let role: ActingRole | undefined;
+	// A token acts with its own role, and only while its owner is still a member (or a site admin).
 	if (token) role = user.site_admin || (await roleIn(user.id, project.id)) ? token.role : undefined;
-	else if (user.site_admin) role = (await roleIn(user.id, project.id)) ?? 'admin';
-	else role = await roleIn(user.id, project.id);
-	if (!role) error(403, { message: `You are not a member of project ${project.key}.` });
-	const allowed = role === 'admin' || (user.site_admin && !token) || !roles || roles.includes(role);
-	if (!allowed) {
-		error(403, {
-			message: `Your role in ${project.key} (${role}) does not allow this; it needs ${roles!.join(' or ')}.`
-		});
+	else {
+		const member = memberships
+			? memberships.find((m) => Number(m.id) === project.id)?.role
+			: await roleIn(user.id, project.id);
+		role = member ?? (user.site_admin ? 'admin' : undefined);
 	}
-	return { user, project, role };
+	if (!role) error(403, { message: `You are not a member of project ${project.key}.` });
+
+	// Addressed through a project's URL: the resource must be that project's (checked after membership,
+	// so a non-member learns nothing about the project's ids either).
+	if (resource && target.project !== undefined) {
+		const owner = await projectOwning(resource.kind, resource.id);
+		if (!owner || Number(owner.id) !== project.id)
+			error(404, { message: `There is no ${KIND_WORDS[resource.kind]} ${resource.id} in ${project.key}.` });
+	}
+
+	const siteAdmin = user.site_admin && !token;
+	if (!allows(role, siteAdmin, need))
+		error(403, {
+			message: `Your role in ${project.key} (${role}) does not allow this; it needs ${rolesFor(need)}.`
+		});
+	// A site administrator doing what their own role in the project would not acts as 'admin' (so a
+	// review, for one, records under which rule it was allowed).
+	const acting = allows(role, false, need) ? role : 'admin';
+	const decided: Omit<Access, 'resource'> & { resource: { kind: OwnedKind; id: number } | null } = {
+		user,
+		project,
+		role: acting,
+		resource,
+		can: capabilities(role, siteAdmin)
+	};
+	return decided;
 }

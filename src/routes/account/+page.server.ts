@@ -1,7 +1,7 @@
 import { fail } from '@sveltejs/kit';
 import { z } from 'zod';
 import { actorOf } from '$lib/server/audit';
-import { requireUser } from '$lib/server/auth';
+import { access } from '$lib/server/auth';
 import { ServiceError, fieldErrors, type FieldErrors } from '$lib/server/errors';
 import { createToken, listTokens, revokeToken } from '$lib/server/identity/api-tokens';
 import { ROLES } from '$lib/server/identity/roles';
@@ -27,7 +27,7 @@ const passwordForm = z
 	.refine((v) => v.password === v.confirm, { path: ['confirm'], message: 'The two passwords differ.' });
 
 export const load = (async (event) => {
-	const user = requireUser(event);
+	const { user } = await access(event, 'account');
 	const projects = await listProjectsFor(user);
 	return {
 		account: { email: user.email, name: user.display_name, admin: user.site_admin },
@@ -39,14 +39,14 @@ export const load = (async (event) => {
 
 export const actions = {
 	rename: async (event) => {
-		const user = requireUser(event);
+		const { user } = await access(event, 'account');
 		const parsed = renameForm.safeParse(Object.fromEntries(await event.request.formData()));
 		if (!parsed.success) return fail(400, { action: 'rename', errors: fieldErrors(parsed.error) });
 		await renameUser(actorOf(event.locals), user, parsed.data.displayName);
 		return { action: 'rename', ok: true };
 	},
 	password: async (event) => {
-		const user = requireUser(event);
+		const { user } = await access(event, 'account');
 		const parsed = passwordForm.safeParse(Object.fromEntries(await event.request.formData()));
 		if (!parsed.success) return fail(400, { action: 'password', errors: fieldErrors(parsed.error) });
 		try {
@@ -58,7 +58,7 @@ export const actions = {
 		return { action: 'password', ok: true };
 	},
 	createToken: async (event) => {
-		const user = requireUser(event);
+		const { user } = await access(event, 'account');
 		const form = Object.fromEntries(await event.request.formData());
 		const parsed = tokenForm.safeParse(form);
 		if (!parsed.success) return fail(400, { action: 'createToken', errors: fieldErrors(parsed.error) });
@@ -76,7 +76,7 @@ export const actions = {
 		}
 	},
 	revokeToken: async (event) => {
-		const user = requireUser(event);
+		const { user } = await access(event, 'account');
 		const parsed = revokeForm.safeParse(Object.fromEntries(await event.request.formData()));
 		if (!parsed.success) return fail(400, { action: 'revokeToken', errors: fieldErrors(parsed.error) });
 		try {

@@ -1,13 +1,13 @@
 import { fail } from '@sveltejs/kit';
 import { actorOf } from '$lib/server/audit';
-import { requireAdmin } from '$lib/server/auth';
+import { access } from '$lib/server/auth';
 import { ServiceError, fieldErrors, type FieldErrors } from '$lib/server/errors';
 import { createProjectForm, userFlagsForm } from '$lib/server/identity/schema';
 import { createProject, listAllProjects, listUsers, setUserDisabled } from '$lib/server/identity/service';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load = (async (event) => {
-	requireAdmin(event);
+	await access(event, 'site');
 	const [projects, users] = await Promise.all([listAllProjects(), listUsers()]);
 	return {
 		projects: projects.map((p) => ({ key: p.key, name: p.name, description: p.description })),
@@ -23,7 +23,7 @@ export const load = (async (event) => {
 
 export const actions = {
 	createProject: async (event) => {
-		requireAdmin(event);
+		await access(event, 'site');
 		const form = Object.fromEntries(await event.request.formData());
 		const values = {
 			key: String(form.key ?? ''),
@@ -43,7 +43,7 @@ export const actions = {
 		}
 	},
 	setDisabled: async (event) => {
-		requireAdmin(event);
+		await access(event, 'site');
 		const form = Object.fromEntries(await event.request.formData());
 		const parsed = userFlagsForm.safeParse(form);
 		if (!parsed.success) return fail(400, { action: 'setDisabled', errors: fieldErrors(parsed.error) });

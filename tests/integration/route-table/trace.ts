@@ -1,5 +1,4 @@
-import { createHash } from 'node:crypto';
-import { testDb } from '../../factories';
+import { createBaseline, testDb } from '../../factories';
 import { membersOnly, rolesOnly, type RouteCase } from './types';
 import type { PrepareContext } from '../authorization.test';
 
@@ -86,31 +85,9 @@ export const cases: RouteCase[] = [
 	}
 ];
 
-/** One baseline in the team project (inserted directly: an empty manifest is a valid frozen state). */
+/** One baseline in the team project (an empty manifest is a valid frozen state). */
 export async function prepare(ctx: PrepareContext): Promise<Record<string, string>> {
-	const db = testDb();
-	const p = await db('projects').where({ key: ctx.projectKey }).first('id', 'key', 'name');
-	const manifest = {
-		format: 'loopwarden-snapshot/1',
-		project: { key: p.key, name: p.name },
-		engineVersion: 'test',
-		requirements: [],
-		links: [],
-		modelVersions: [],
-		evidence: []
-	};
-	const text = JSON.stringify(manifest);
-	const [b] = await db('baselines')
-		.insert({
-			project_id: p.id,
-			number: 1,
-			label: 'Route table baseline',
-			manifest: text,
-			manifest_hash: createHash('sha256').update(text).digest('hex'),
-			engine_version: 'test',
-			requirement_count: 0,
-			created_by_label: 'route table'
-		})
-		.returning('id');
+	const p = await testDb()('projects').where({ key: ctx.projectKey }).first('id');
+	const b = await createBaseline(Number(p.id));
 	return { baselineId: String(b.id) };
 }

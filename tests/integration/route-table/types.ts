@@ -9,8 +9,11 @@ export const CALLERS = [
 	'analyst',
 	'certifier',
 	'admin',
+	'adminViewer',
 	'outsider'
 ] as const;
+// admin: a site administrator who is not a member of the project; adminViewer: a site administrator
+// who is a viewer in it (the site-administrator rule must win over the lesser project role).
 export type Caller = (typeof CALLERS)[number];
 
 /**
@@ -31,7 +34,26 @@ export interface RouteCase {
 	/** Body for POST/PATCH cases (form fields for actions, JSON for the API). Use values that do not change data where possible. */
 	body?: Record<string, unknown>;
 	expect: Record<Caller, Outcome>;
+	/** A case about the access decision's edges (ids that do not exist, other projects' resources): the
+	 * request is refused before its body is read, so the fuzzing of inputs leaves it out. */
+	edge?: true;
 }
+
+/**
+ * An address of this project naming a resource that is not this project's (another project's, or
+ * none at all): a 404 for every member, the site administrators included; a non-member is refused
+ * before anything is looked up; an anonymous caller is sent to sign in (401 for the API).
+ */
+export const notInThisProject = (anon: Outcome = 'signin'): Record<Caller, Outcome> => ({
+	anonymous: anon,
+	viewer: 404,
+	engineer: 404,
+	analyst: 404,
+	certifier: 404,
+	admin: 404,
+	adminViewer: 404,
+	outsider: 403
+});
 
 /** Shorthand for the common patterns. */
 export const everyone = (o: Outcome): Record<Caller, Outcome> =>
@@ -44,6 +66,7 @@ export const membersOnly = (anon: Outcome = 'signin'): Record<Caller, Outcome> =
 	analyst: 'ok',
 	certifier: 'ok',
 	admin: 'ok',
+	adminViewer: 'ok',
 	outsider: 403
 });
 
@@ -54,6 +77,7 @@ export const rolesOnly = (roles: Caller[], anon: Outcome = 'signin'): Record<Cal
 	analyst: roles.includes('analyst') ? 'ok' : 403,
 	certifier: roles.includes('certifier') ? 'ok' : 403,
 	admin: 'ok',
+	adminViewer: 'ok',
 	outsider: 403
 });
 
@@ -64,5 +88,6 @@ export const adminOnly = (anon: Outcome = 'signin'): Record<Caller, Outcome> => 
 	analyst: 403,
 	certifier: 403,
 	admin: 'ok',
+	adminViewer: 'ok',
 	outsider: 403
 });

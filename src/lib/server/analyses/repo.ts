@@ -102,12 +102,6 @@ export const requirementProject = (db: Db, requirementId: number) =>
 		{ id: number; project_id: number; project_key: string } | undefined
 	>;
 
-export const runProject = (db: Db, runId: number) =>
-	db('analysis_runs as ar')
-		.join('projects as p', 'p.id', 'ar.project_id')
-		.where('ar.id', runId)
-		.first('ar.id', 'p.key as project_key') as Promise<{ id: number; project_key: string } | undefined>;
-
 /** The current specification of a requirement, with its model, for the analysis panel. */
 export const currentSpec = (db: Db, requirementId: number) =>
 	db('requirements as r')

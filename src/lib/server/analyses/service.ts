@@ -5,7 +5,6 @@ import {
 	currentSpec,
 	graphRows,
 	requirementProject,
-	runProject,
 	runs,
 	runsOfModelVersion,
 	type RunRow
@@ -45,19 +44,6 @@ export function presentRun(r: Omit<RunRow, 'curves'> & { curves?: unknown }, wit
 	};
 }
 export type PresentedRun = ReturnType<typeof presentRun>;
-
-/** Project key of a requirement (for the guard of routes keyed by a requirement id), or 404. */
-export async function projectKeyOfRequirement(requirementId: number): Promise<string> {
-	const r = await requirementProject(db(), requirementId);
-	if (!r) throw new ServiceError(404, `There is no requirement ${requirementId}.`);
-	return r.project_key;
-}
-
-export async function projectKeyOfRun(runId: number): Promise<string> {
-	const r = await runProject(db(), runId);
-	if (!r) throw new ServiceError(404, `There is no analysis run ${runId}.`);
-	return r.project_key;
-}
 
 export interface RequirementAnalyses {
 	requirementId: number;

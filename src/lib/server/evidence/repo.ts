@@ -118,12 +118,6 @@ export const evidenceRepo = {
 	/** Lock the item row so concurrent revisions and reviews of one item happen one after another. */
 	lockItem: (db: Db, id: number) => db<EvidenceRow>('evidence').where({ id }).forUpdate().first(),
 
-	projectOf: (db: Db, evidenceId: number) =>
-		db('evidence as e')
-			.join('projects as p', 'p.id', 'e.project_id')
-			.where('e.id', evidenceId)
-			.first('p.id', 'p.key') as Promise<{ id: number; key: string } | undefined>,
-
 	files: (db: Db, evidenceId: number) =>
 		db('evidence_files as f')
 			.where('f.evidence_id', evidenceId)

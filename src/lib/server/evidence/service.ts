@@ -351,13 +351,6 @@ export async function reviseEvidence(input: UploadInput & { evidenceId: number }
 	});
 }
 
-/** The project an evidence item belongs to (for the guard of id-keyed routes). */
-export async function projectOfEvidence(evidenceId: number): Promise<ProjectRef> {
-	const p = await repo.projectOf(db(), evidenceId);
-	if (!p) throw new ServiceError(404, `There is no evidence ${evidenceId}.`);
-	return p;
-}
-
 export type ReviewState = 'pending' | Decision;
 
 export interface EvidenceDetail {

@@ -55,8 +55,26 @@ export const projects = {
 			.select('p.id', 'p.key', 'p.name', 'p.description', 'm.role')
 			.orderBy('p.key') as Promise<(ProjectRow & { role: Role })[]>,
 	insert: async (db: Db, row: { key: string; name: string; description: string }) =>
-		(await db('projects').insert(row).returning('*'))[0] as ProjectRow
+		(await db('projects').insert(row).returning('*'))[0] as ProjectRow,
+	/** The project a resource belongs to, for the access decision (every such table has project_id). */
+	owning: (db: Db, kind: OwnedKind, id: number) =>
+		db(`${OWNED_TABLES[kind]} as x`)
+			.join('projects as p', 'p.id', 'x.project_id')
+			.where('x.id', id)
+			.first('p.id', 'p.key', 'p.name', 'p.description') as Promise<
+			Omit<ProjectRow, 'created_at'> | undefined
+		>
 };
+
+/** Resources that belong to one project and are addressed by their own id. */
+export const OWNED_TABLES = {
+	requirement: 'requirements',
+	model: 'models',
+	evidence: 'evidence',
+	run: 'analysis_runs',
+	baseline: 'baselines'
+} as const;
+export type OwnedKind = keyof typeof OWNED_TABLES;
 
 export const memberships = {
 	role: async (db: Db, userId: number, projectId: number): Promise<Role | undefined> =>

@@ -14,6 +14,7 @@ import {
 	projects,
 	signInAttempts,
 	users,
+	type OwnedKind,
 	type UserRow
 } from './repo';
 import type { Role } from './roles';
@@ -313,6 +314,7 @@ export const listMembers = (projectId: number) => memberships.list(db(), project
 export const listPendingInvitations = (projectId: number) => invitations.pending(db(), projectId);
 export const projectByKey = (key: string) => projects.byKey(db(), key);
 export const roleIn = (userId: number, projectId: number) => memberships.role(db(), userId, projectId);
+export const projectOwning = (kind: OwnedKind, id: number) => projects.owning(db(), kind, id);
 export const accountExists = async (email: string) => !!(await users.byEmail(db(), email));
 
 export async function changePassword(

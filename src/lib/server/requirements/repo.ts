@@ -114,9 +114,7 @@ export const projectsForRequirements = {
 			.where('m.project_id', projectId)
 			.where('u.disabled', false)
 			.select('u.id', 'u.display_name as name', 'u.email', 'm.role')
-			.orderBy('u.display_name') as Promise<{ id: number; name: string; email: string; role: string }[]>,
-	keyOf: async (db: Db, projectId: number): Promise<string | undefined> =>
-		(await db('projects').where({ id: projectId }).first('key'))?.key
+			.orderBy('u.display_name') as Promise<{ id: number; name: string; email: string; role: string }[]>
 };
 
 export const requirements = {

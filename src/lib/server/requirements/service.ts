@@ -182,16 +182,6 @@ export const modelsForSpecs = async (projectId: number) => {
 	}));
 };
 
-/** The project a requirement belongs to, for the guard of routes keyed by a requirement id. */
-export async function projectOfRequirement(
-	id: number
-): Promise<{ projectId: number; projectKey: string } | null> {
-	const r = await requirements.byId(db(), id);
-	if (!r) return null;
-	const key = await projects.keyOf(db(), r.project_id);
-	return key ? { projectId: Number(r.project_id), projectKey: key } : null;
-}
-
 export interface SpecView {
 	id: number;
 	version: number;

@@ -1,7 +1,7 @@
-import { requireRole } from '$lib/server/auth';
+import { access } from '$lib/server/auth';
 import type { PageServerLoad } from './$types';
 
 export const load = (async (event) => {
-	const { project, role } = await requireRole(event, event.params.key);
+	const { project, role } = await access(event, { project: event.params.key });
 	return { project: { key: project.key, name: project.name, description: project.description }, role };
 }) satisfies PageServerLoad;

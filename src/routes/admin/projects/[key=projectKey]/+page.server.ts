@@ -1,6 +1,6 @@
 import { error, fail } from '@sveltejs/kit';
 import { actorOf } from '$lib/server/audit';
-import { requireAdmin } from '$lib/server/auth';
+import { access } from '$lib/server/auth';
 import { ServiceError, fieldErrors, type FieldErrors } from '$lib/server/errors';
 import { ROLE_LABELS, ROLES } from '$lib/server/identity/roles';
 import { inviteForm, membershipForm, removeMembershipForm } from '$lib/server/identity/schema';
@@ -21,7 +21,7 @@ async function project(key: string) {
 }
 
 export const load = (async (event) => {
-	requireAdmin(event);
+	await access(event, 'site');
 	const p = await project(event.params.key);
 	const [members, invitations] = await Promise.all([listMembers(p.id), listPendingInvitations(p.id)]);
 	return {
@@ -45,7 +45,7 @@ export const load = (async (event) => {
 
 export const actions = {
 	invite: async (event) => {
-		const admin = requireAdmin(event);
+		const { user: admin } = await access(event, 'site');
 		const p = await project(event.params.key);
 		const form = Object.fromEntries(await event.request.formData());
 		const values = { email: String(form.email ?? ''), role: String(form.role ?? '') };
@@ -61,7 +61,7 @@ export const actions = {
 		return { action: 'invite', invited: parsed.data.email, existingUser: r.existingUser };
 	},
 	setRole: async (event) => {
-		requireAdmin(event);
+		await access(event, 'site');
 		const p = await project(event.params.key);
 		const parsed = membershipForm.safeParse(Object.fromEntries(await event.request.formData()));
 		if (!parsed.success) return fail(400, { action: 'setRole', errors: fieldErrors(parsed.error) });
@@ -75,7 +75,7 @@ export const actions = {
 		return { action: 'setRole', ok: true };
 	},
 	remove: async (event) => {
-		requireAdmin(event);
+		await access(event, 'site');
 		const p = await project(event.params.key);
 		const parsed = removeMembershipForm.safeParse(Object.fromEntries(await event.request.formData()));
 		if (!parsed.success) return fail(400, { action: 'remove', errors: fieldErrors(parsed.error) });

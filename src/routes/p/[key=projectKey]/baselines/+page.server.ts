@@ -1,14 +1,13 @@
 import { fail, redirect } from '@sveltejs/kit';
 import { actorOf } from '$lib/server/audit';
-import { requireRole } from '$lib/server/auth';
+import { access } from '$lib/server/auth';
 import { currentManifest, freeze, listBaselines, type Blocker } from '$lib/server/baselines/service';
 import { freezeForm } from '$lib/server/baselines/schema';
 import { ServiceError, fieldErrors, type FieldErrors } from '$lib/server/errors';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load = (async (event) => {
-	const { project, role } = await requireRole(event, event.params.key);
-	const canFreeze = role === 'certifier' || role === 'admin';
+	const { project, can } = await access(event, { project: event.params.key });
 	const baselines = (await listBaselines(project.id)).map((b) => ({
 		id: Number(b.id),
 		number: b.number,
@@ -22,16 +21,16 @@ export const load = (async (event) => {
 	}));
 	// What would block a freeze now, for those who may freeze.
 	let current: { hash: string; requirements: number; blockers: Blocker[] } | null = null;
-	if (canFreeze) {
+	if (can.freezeBaselines) {
 		const c = await currentManifest(project.id);
 		current = { hash: c.hash, requirements: c.manifest.requirements.length, blockers: c.blockers };
 	}
-	return { project: { key: project.key, name: project.name }, canFreeze, baselines, current };
+	return { project: { key: project.key, name: project.name }, can, baselines, current };
 }) satisfies PageServerLoad;
 
 export const actions = {
 	freeze: async (event) => {
-		const { project } = await requireRole(event, event.params.key, ['certifier']);
+		const { project } = await access(event, { project: event.params.key }, 'freezeBaselines');
 		const form = Object.fromEntries(await event.request.formData());
 		const values = { label: String(form.label ?? ''), note: String(form.note ?? '') };
 		const parsed = freezeForm.safeParse(values);

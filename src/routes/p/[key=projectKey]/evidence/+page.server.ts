@@ -1,9 +1,8 @@
 import { fail, isHttpError, redirect } from '@sveltejs/kit';
 import { actorOf } from '$lib/server/audit';
-import { requireRole } from '$lib/server/auth';
+import { access } from '$lib/server/auth';
 import { config } from '$lib/server/config';
 import { ServiceError, type FieldErrors } from '$lib/server/errors';
-import { UPLOAD_ROLES } from '$lib/server/evidence/guard';
 import { EVIDENCE_KINDS, KIND_LABELS, VERIFICATION_METHODS } from '$lib/server/evidence/schema';
 import {
 	listEvidence,
@@ -15,7 +14,7 @@ import { formatBytes } from '$lib/server/evidence/upload';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load = (async (event) => {
-	const { project, role } = await requireRole(event, event.params.key);
+	const { project, can } = await access(event, { project: event.params.key });
 	const q = event.url.searchParams;
 	const [list, requirements] = await Promise.all([
 		listEvidence(project.id, {
@@ -27,7 +26,7 @@ export const load = (async (event) => {
 	]);
 	return {
 		project: { key: project.key, name: project.name },
-		canUpload: role === 'admin' || UPLOAD_ROLES.includes(role),
+		can,
 		evidence: list.rows,
 		filters: {
 			kind: list.filters.kind ?? '',
@@ -45,7 +44,7 @@ export const load = (async (event) => {
 export const actions = {
 	// The upload form without JavaScript: the multipart body is streamed exactly as through the API.
 	upload: async (event) => {
-		const { project } = await requireRole(event, event.params.key, UPLOAD_ROLES);
+		const { project } = await access(event, { project: event.params.key }, 'uploadEvidence');
 		let id: number;
 		try {
 			const r = await uploadEvidence({

@@ -1,9 +1,9 @@
-import { requireRole } from '$lib/server/auth';
+import { access } from '$lib/server/auth';
 import { traceGraph } from '$lib/server/analyses/service';
 import type { PageServerLoad } from './$types';
 
 export const load = (async (event) => {
-	const { project } = await requireRole(event, event.params.key);
+	const { project } = await access(event, { project: event.params.key });
 	return {
 		project: { key: project.key, name: project.name },
 		graph: await traceGraph(project.id, project.key)

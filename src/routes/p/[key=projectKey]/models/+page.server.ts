@@ -1,13 +1,13 @@
-import { requireRole } from '$lib/server/auth';
+import { access } from '$lib/server/auth';
 import { listModels } from '$lib/server/models/service';
 import type { PageServerLoad } from './$types';
 
 export const load = (async (event) => {
-	const { project, role } = await requireRole(event, event.params.key);
+	const { project, can } = await access(event, { project: event.params.key });
 	const rows = await listModels(project.id);
 	return {
 		project: { key: project.key, name: project.name },
-		canCreate: role === 'analyst' || role === 'admin' || event.locals.user?.site_admin === true,
+		can,
 		models: rows.map((m) => ({
 			id: Number(m.id),
 			name: m.name,

@@ -1,11 +1,11 @@
-import { requireRole } from '$lib/server/auth';
+import { access } from '$lib/server/auth';
 import { LEVELS, STATUSES, listFilters } from '$lib/server/requirements/schema';
 import { countRequirements, listRequirements, projectMembers } from '$lib/server/requirements/service';
 import { projectStamp } from '$lib/server/live/service';
 import type { PageServerLoad } from './$types';
 
 export const load = (async (event) => {
-	const { project, role, user } = await requireRole(event, event.params.key);
+	const { project, can } = await access(event, { project: event.params.key });
 	const sp = event.url.searchParams;
 	const filters = listFilters.parse({
 		status: sp.get('status') || undefined,
@@ -23,7 +23,7 @@ export const load = (async (event) => {
 	]);
 	return {
 		project: { key: project.key, name: project.name },
-		canWrite: role === 'engineer' || role === 'admin' || user.site_admin,
+		can,
 		filters: {
 			status: filters.status ?? '',
 			level: filters.level ?? '',

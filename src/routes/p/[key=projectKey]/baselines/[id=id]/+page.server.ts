@@ -1,5 +1,5 @@
 import { error } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth';
+import { access, inAddress } from '$lib/server/auth';
 import { getBaseline } from '$lib/server/baselines/service';
 import { ServiceError } from '$lib/server/errors';
 import { COMBINED_STATES } from '$lib/trace/states';
@@ -8,10 +8,10 @@ import type { PageServerLoad } from './$types';
 const SHOWN = 1000;
 
 export const load = (async (event) => {
-	const { project } = await requireRole(event, event.params.key);
+	const { project, resource } = await access(event, inAddress(event.params, 'baseline'));
 	let b;
 	try {
-		b = await getBaseline(project.id, Number(event.params.id));
+		b = await getBaseline(project.id, resource.id);
 	} catch (e) {
 		if (e instanceof ServiceError) error(e.status, { message: e.message });
 		throw e;

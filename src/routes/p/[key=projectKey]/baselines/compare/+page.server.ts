@@ -1,12 +1,12 @@
 import { error } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth';
+import { access } from '$lib/server/auth';
 import { compare, listBaselines } from '$lib/server/baselines/service';
 import { compareQuery } from '$lib/server/baselines/schema';
 import { ServiceError } from '$lib/server/errors';
 import type { PageServerLoad } from './$types';
 
 export const load = (async (event) => {
-	const { project } = await requireRole(event, event.params.key);
+	const { project } = await access(event, { project: event.params.key });
 	const parsed = compareQuery.safeParse({
 		from: event.url.searchParams.get('from') ?? undefined,
 		to: event.url.searchParams.get('to') || undefined

@@ -1,9 +1,8 @@
-import { error, fail, redirect } from '@sveltejs/kit';
+import { fail, redirect } from '@sveltejs/kit';
 import { actorOf } from '$lib/server/audit';
-import { requireRole } from '$lib/server/auth';
+import { access, inAddress } from '$lib/server/auth';
 import { config } from '$lib/server/config';
 import { ServiceError, type FieldErrors } from '$lib/server/errors';
-import { REVIEW_ROLES, TOLERANCE_ROLES, UPLOAD_ROLES } from '$lib/server/evidence/guard';
 import {
 	EVIDENCE_KINDS,
 	KIND_LABELS,
@@ -16,7 +15,6 @@ import {
 	evidenceHistory,
 	getEvidence,
 	parseRevision,
-	projectOfEvidence,
 	projectRequirements,
 	reviewEvidence,
 	reviseEvidence,
@@ -24,18 +22,7 @@ import {
 	submittedFields
 } from '$lib/server/evidence/service';
 import { formatBytes } from '$lib/server/evidence/upload';
-import type { RequestEvent } from '@sveltejs/kit';
 import type { Actions, PageServerLoad } from './$types';
-
-/** The guard, and the evidence must belong to the project in the address. */
-async function guard(event: RequestEvent, roles?: Parameters<typeof requireRole>[2]) {
-	const access = await requireRole(event, event.params.key!, roles);
-	const id = Number(event.params.id);
-	const owner = await projectOfEvidence(id).catch(() => null);
-	if (!owner || owner.key !== access.project.key)
-		error(404, { message: `There is no evidence ${id} in ${access.project.key}.` });
-	return { ...access, id };
-}
 
 function failed(action: string, e: unknown) {
 	if (e instanceof ServiceError) {
@@ -49,7 +36,8 @@ function failed(action: string, e: unknown) {
 }
 
 export const load = (async (event) => {
-	const { project, role, user, id } = await guard(event);
+	const { project, user, can, resource } = await access(event, inAddress(event.params, 'evidence'));
+	const id = resource.id;
 	let revision: number | undefined;
 	try {
 		revision = parseRevision(event.url.searchParams.get('revision'));
@@ -67,7 +55,6 @@ export const load = (async (event) => {
 		evidenceHistory(id),
 		projectRequirements(project.id)
 	]);
-	const isAdmin = role === 'admin' || user.site_admin;
 	return {
 		project: { key: project.key, name: project.name },
 		evidence: detail,
@@ -81,15 +68,9 @@ export const load = (async (event) => {
 		meanings: SIGN_OFF_MEANING,
 		maxBytes: config.evidenceMaxBytes,
 		maxLabel: formatBytes(config.evidenceMaxBytes),
-		can: {
-			review:
-				(isAdmin || REVIEW_ROLES.includes(role as never)) &&
-				!current.review &&
-				current.uploadedById !== user.id,
-			reviewRole: isAdmin || REVIEW_ROLES.includes(role as never),
-			revise: (isAdmin || UPLOAD_ROLES.includes(role as never)) && !detail.frozen,
-			tolerance: isAdmin || TOLERANCE_ROLES.includes(role as never)
-		},
+		can,
+		// The uploader of a revision may not review it (the service refuses it too).
+		ownRevision: current.uploadedById === user.id,
 		inlineKind: shown.contentType.startsWith('image/')
 			? 'image'
 			: shown.contentType === 'application/pdf'
@@ -100,7 +81,12 @@ export const load = (async (event) => {
 
 export const actions = {
 	review: async (event) => {
-		const { project, role, id } = await guard(event, REVIEW_ROLES);
+		const { project, role, resource } = await access(
+			event,
+			inAddress(event.params, 'evidence'),
+			'reviewEvidence'
+		);
+		const id = resource.id;
 		const fields = Object.fromEntries(await event.request.formData());
 		try {
 			await reviewEvidence({ evidenceId: id, project, actor: actorOf(event.locals), role, fields });
@@ -110,7 +96,8 @@ export const actions = {
 		return { action: 'review', ok: true };
 	},
 	integrity: async (event) => {
-		const { project, id } = await guard(event);
+		const { project, resource } = await access(event, inAddress(event.params, 'evidence'));
+		const id = resource.id;
 		const fields = Object.fromEntries(await event.request.formData());
 		try {
 			const revision = parseRevision(typeof fields.revision === 'string' ? fields.revision : null);
@@ -126,7 +113,8 @@ export const actions = {
 		}
 	},
 	revise: async (event) => {
-		const { project, id } = await guard(event, UPLOAD_ROLES);
+		const { project, resource } = await access(event, inAddress(event.params, 'evidence'), 'uploadEvidence');
+		const id = resource.id;
 		try {
 			await reviseEvidence({
 				evidenceId: id,
@@ -141,7 +129,7 @@ export const actions = {
 		redirect(303, `/p/${project.key}/evidence/${id}`);
 	},
 	tolerance: async (event) => {
-		const { project } = await guard(event, TOLERANCE_ROLES);
+		const { project } = await access(event, inAddress(event.params, 'evidence'), 'setTolerance');
 		const fields = Object.fromEntries(await event.request.formData());
 		try {
 			const r = await setTolerance({ project, actor: actorOf(event.locals), fields });

@@ -1,14 +1,14 @@
 import { error } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth';
+import { access, inAddress } from '$lib/server/auth';
 import { ServiceError } from '$lib/server/errors';
 import { modelOverview } from '$lib/server/models/service';
 import type { PageServerLoad } from './$types';
 
 export const load = (async (event) => {
-	const { project, role } = await requireRole(event, event.params.key);
+	const { project, can, resource } = await access(event, inAddress(event.params, 'model'));
 	let o;
 	try {
-		o = await modelOverview(project.id, Number(event.params.id));
+		o = await modelOverview(project.id, resource.id);
 	} catch (e) {
 		if (e instanceof ServiceError) error(e.status, { message: e.message });
 		throw e;
@@ -16,7 +16,7 @@ export const load = (async (event) => {
 	const { model: m, owner, versions, requirements: reqs } = o;
 	return {
 		project: { key: project.key, name: project.name },
-		canPublish: role === 'analyst' || role === 'admin' || event.locals.user?.site_admin === true,
+		can,
 		model: {
 			id: Number(m.id),
 			name: m.name,

@@ -1,12 +1,12 @@
 import { fail, redirect } from '@sveltejs/kit';
 import { actorOf } from '$lib/server/audit';
-import { requireRole } from '$lib/server/auth';
+import { access } from '$lib/server/auth';
 import { ServiceError } from '$lib/server/errors';
 import { createModel, listPossibleOwners } from '$lib/server/models/service';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load = (async (event) => {
-	const { project, user } = await requireRole(event, event.params.key, ['analyst']);
+	const { project, user } = await access(event, { project: event.params.key }, 'writeModels');
 	const owners = await listPossibleOwners(project.id);
 	return {
 		project: { key: project.key, name: project.name },
@@ -17,7 +17,7 @@ export const load = (async (event) => {
 
 export const actions = {
 	create: async (event) => {
-		const { project } = await requireRole(event, event.params.key, ['analyst']);
+		const { project } = await access(event, { project: event.params.key }, 'writeModels');
 		const form = Object.fromEntries(await event.request.formData());
 		const values = {
 			name: String(form.name ?? ''),

@@ -1,7 +1,7 @@
 import { error, fail } from '@sveltejs/kit';
 import { SPEC_TEMPLATES } from '$lib/requirements/templates';
 import { actorOf } from '$lib/server/audit';
-import { requireRole } from '$lib/server/auth';
+import { access, inAddress } from '$lib/server/auth';
 import { ServiceError, type FieldErrors } from '$lib/server/errors';
 import {
 	formFieldErrors,
@@ -12,7 +12,6 @@ import {
 } from '$lib/server/requirements/schema';
 import {
 	addLink,
-	getRequirement,
 	modelsForSpecs,
 	removeLink,
 	requirementPage,
@@ -20,15 +19,6 @@ import {
 	setSpecification
 } from '$lib/server/requirements/service';
 import type { Actions, PageServerLoad } from './$types';
-
-const WRITERS = ['engineer'] as const;
-
-async function requirementOf(projectId: number, id: string) {
-	const r = await getRequirement(Number(id));
-	if (!r || r.projectId !== projectId)
-		error(404, { message: 'There is no such requirement in this project.' });
-	return r;
-}
 
 function failWith(action: string, e: unknown, extra: Record<string, unknown> = {}) {
 	if (e instanceof ServiceError) {
@@ -38,21 +28,19 @@ function failWith(action: string, e: unknown, extra: Record<string, unknown> = {
 }
 
 export const load = (async (event) => {
-	const { project, role, user } = await requireRole(event, event.params.key);
-	const canWrite = role === 'engineer' || role === 'admin' || user.site_admin;
+	const { project, can, resource } = await access(event, inAddress(event.params, 'requirement'));
 	// The link and specification forms (and so their choices) are shown to writers only.
 	const [found, options, models] = await Promise.all([
-		requirementPage(Number(event.params.id)),
-		canWrite ? requirementOptions(project.id) : [],
-		canWrite ? modelsForSpecs(project.id) : []
+		requirementPage(resource.id),
+		can.writeRequirements ? requirementOptions(project.id) : [],
+		can.writeRequirements ? modelsForSpecs(project.id) : []
 	]);
-	if (!found || found.requirement.projectId !== project.id)
-		error(404, { message: 'There is no such requirement in this project.' });
+	if (!found) error(404, { message: 'There is no such requirement in this project.' });
 	const { requirement: r, history } = found;
 	const linked = new Set([r.id, ...r.parents.map((p) => p.id)]);
 	return {
 		project: { key: project.key, name: project.name },
-		canWrite,
+		can,
 		requirement: r,
 		history,
 		parentOptions: options
@@ -65,8 +53,7 @@ export const load = (async (event) => {
 
 export const actions = {
 	addLink: async (event) => {
-		const { project } = await requireRole(event, event.params.key, WRITERS);
-		const r = await requirementOf(project.id, event.params.id);
+		const { resource: r } = await access(event, inAddress(event.params, 'requirement'), 'writeRequirements');
 		const parsed = linkForm.safeParse(Object.fromEntries(await event.request.formData()));
 		if (!parsed.success) return fail(400, { action: 'addLink', errors: formFieldErrors(parsed.error) });
 		try {
@@ -77,8 +64,7 @@ export const actions = {
 		return { action: 'addLink', ok: true };
 	},
 	removeLink: async (event) => {
-		const { project } = await requireRole(event, event.params.key, WRITERS);
-		const r = await requirementOf(project.id, event.params.id);
+		const { resource: r } = await access(event, inAddress(event.params, 'requirement'), 'writeRequirements');
 		const parsed = unlinkForm.safeParse(Object.fromEntries(await event.request.formData()));
 		if (!parsed.success) return fail(400, { action: 'removeLink', errors: formFieldErrors(parsed.error) });
 		try {
@@ -89,8 +75,7 @@ export const actions = {
 		return { action: 'removeLink', ok: true };
 	},
 	setSpec: async (event) => {
-		const { project } = await requireRole(event, event.params.key, WRITERS);
-		const r = await requirementOf(project.id, event.params.id);
+		const { resource: r } = await access(event, inAddress(event.params, 'requirement'), 'writeRequirements');
 		const raw = Object.fromEntries(await event.request.formData());
 		const values = Object.fromEntries(
 			Object.entries(raw).map(([k, v]) => [k, typeof v === 'string' ? v : ''])

@@ -1,6 +1,6 @@
 import { fail, redirect } from '@sveltejs/kit';
 import { actorOf } from '$lib/server/audit';
-import { requireRole } from '$lib/server/auth';
+import { access } from '$lib/server/auth';
 import { ServiceError } from '$lib/server/errors';
 import {
 	createRequirement as createSchema,
@@ -11,10 +11,8 @@ import {
 import { createRequirement, projectMembers } from '$lib/server/requirements/service';
 import type { Actions, PageServerLoad } from './$types';
 
-const WRITERS = ['engineer'] as const;
-
 export const load = (async (event) => {
-	const { project, user } = await requireRole(event, event.params.key, WRITERS);
+	const { project, user } = await access(event, { project: event.params.key }, 'writeRequirements');
 	const members = await projectMembers(project.id);
 	const isMember = members.some((m) => m.id === user.id);
 	return {
@@ -37,7 +35,7 @@ export const load = (async (event) => {
 
 export const actions = {
 	create: async (event) => {
-		const { project } = await requireRole(event, event.params.key, WRITERS);
+		const { project } = await access(event, { project: event.params.key }, 'writeRequirements');
 		const values = requirementFormValues(await event.request.formData());
 		const parsed = createSchema.safeParse(formInput(values, false));
 		if (!parsed.success)
@@ -57,7 +55,7 @@ export const actions = {
 		redirect(303, `/p/${project.key}/requirements/${created.id}`);
 	},
 	preview: async (event) => {
-		await requireRole(event, event.params.key, WRITERS);
+		await access(event, { project: event.params.key }, 'writeRequirements');
 		const values = requirementFormValues(await event.request.formData());
 		return { action: 'preview', values };
 	}

@@ -1,6 +1,6 @@
 import { Readable } from 'node:stream';
 import { endpoint } from '$lib/server/api';
-import { requireEvidenceRole } from '$lib/server/evidence/guard';
+import { access } from '$lib/server/auth';
 import { contentDisposition } from '$lib/server/evidence/http';
 import { openFile, parseRevision } from '$lib/server/evidence/service';
 import type { RequestHandler } from './$types';
@@ -9,7 +9,7 @@ import type { RequestHandler } from './$types';
 // attachment. Project members only.
 export const GET = endpoint(async (event) => {
 	const id = Number(event.params.id);
-	await requireEvidenceRole(event, id);
+	await access(event, { evidence: id });
 	const { file, body } = await openFile(id, parseRevision(event.url.searchParams.get('revision')));
 	return new Response(Readable.toWeb(body) as ReadableStream, {
 		headers: {

@@ -1,7 +1,7 @@
 import { json } from '@sveltejs/kit';
 import { endpoint } from '$lib/server/api';
 import { actorOf } from '$lib/server/audit';
-import { UPLOAD_ROLES, requireEvidenceRole } from '$lib/server/evidence/guard';
+import { access } from '$lib/server/auth';
 import { reviseEvidence } from '$lib/server/evidence/service';
 import type { RequestHandler } from './$types';
 
@@ -9,7 +9,7 @@ import type { RequestHandler } from './$types';
 // Fields left out keep the previous revision's values.
 export const POST = endpoint(async (event) => {
 	const id = Number(event.params.id);
-	const { project } = await requireEvidenceRole(event, id, UPLOAD_ROLES);
+	const { project } = await access(event, { evidence: id }, 'uploadEvidence');
 	const record = await reviseEvidence({
 		evidenceId: id,
 		project,

@@ -1,9 +1,8 @@
 import { json } from '@sveltejs/kit';
 import { endpoint } from '$lib/server/api';
 import { actorOf } from '$lib/server/audit';
-import { requireRole } from '$lib/server/auth';
+import { access } from '$lib/server/auth';
 import { db } from '$lib/server/db';
-import { UPLOAD_ROLES } from '$lib/server/evidence/guard';
 import { listEvidence, uploadEvidence } from '$lib/server/evidence/service';
 import { combinedStates } from '$lib/server/evidence/state';
 import type { RequestHandler } from './$types';
@@ -11,16 +10,22 @@ import type { RequestHandler } from './$types';
 // GET: the project's evidence (filters: kind, review, requirement). With ?requirement=<id> the answer
 // also carries that requirement's combined verification state.
 export const GET = endpoint(async (event) => {
-	const { project } = await requireRole(event, event.params.key!);
 	const q = event.url.searchParams;
+	// The same form as the id matcher (src/params/id.ts).
+	const byId = /^[1-9][0-9]{0,14}$/.test(q.get('requirement') ?? '');
+	const reqId = Number(q.get('requirement'));
+	// With a requirement id, its combined state is answered too: only for a requirement of this project.
+	const { project } = await access(
+		event,
+		byId ? { project: event.params.key!, requirement: reqId } : { project: event.params.key! }
+	);
 	const list = await listEvidence(project.id, {
 		kind: q.get('kind') ?? undefined,
 		review: q.get('review') ?? undefined,
 		requirement: q.get('requirement') ?? undefined
 	});
 	let combined = null;
-	const reqId = Number(q.get('requirement'));
-	if (Number.isInteger(reqId) && reqId > 0) {
+	if (byId) {
 		const states = await combinedStates(db(), [reqId]);
 		combined = states.get(reqId) ?? null;
 	}
@@ -30,7 +35,7 @@ export const GET = endpoint(async (event) => {
 // POST multipart/form-data: `file` plus title, kind, requirementIds (comma-separated identifiers or ids),
 // optional method, testArticle, testDate (YYYY-MM-DD), note, frequencyUnit, magnitudeUnit, layout.
 export const POST = endpoint(async (event) => {
-	const { project } = await requireRole(event, event.params.key!, UPLOAD_ROLES);
+	const { project } = await access(event, { project: event.params.key! }, 'uploadEvidence');
 	const record = await uploadEvidence({
 		project,
 		actor: actorOf(event.locals),

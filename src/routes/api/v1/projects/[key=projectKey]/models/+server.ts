@@ -1,13 +1,13 @@
 import { json } from '@sveltejs/kit';
 import { endpoint, readJson } from '$lib/server/api';
 import { actorOf } from '$lib/server/audit';
-import { requireRole } from '$lib/server/auth';
+import { access } from '$lib/server/auth';
 import { createModel, listModels } from '$lib/server/models/service';
 import type { RequestHandler } from './$types';
 
 // The loop models of a project (every member reads) and creating one (analysts).
 export const GET = endpoint(async (event) => {
-	const { project } = await requireRole(event, event.params.key!);
+	const { project } = await access(event, { project: event.params.key! });
 	const rows = await listModels(project.id);
 	return json({
 		models: rows.map((m) => ({
@@ -24,7 +24,7 @@ export const GET = endpoint(async (event) => {
 }) satisfies RequestHandler;
 
 export const POST = endpoint(async (event) => {
-	const { project } = await requireRole(event, event.params.key!, ['analyst']);
+	const { project } = await access(event, { project: event.params.key! }, 'writeModels');
 	const body = await readJson(event);
 	const m = await createModel(actorOf(event.locals), project.id, body);
 	return json(

@@ -1,6 +1,6 @@
 import { actorOf } from '$lib/server/audit';
 import { endpoint } from '$lib/server/api';
-import { requireRole } from '$lib/server/auth';
+import { access } from '$lib/server/auth';
 import { parseOrThrow } from '$lib/server/errors';
 import { csvStream } from '$lib/server/trace/export';
 import { filtersText, matrixQuery, paramsOf } from '$lib/server/trace/schema';
@@ -9,7 +9,7 @@ import type { RequestHandler } from './$types';
 
 // The matrix sheet as CSV, with the same columns as the workbook's.
 export const GET = endpoint(async (event) => {
-	const { project } = await requireRole(event, event.params.key!);
+	const { project } = await access(event, { project: event.params.key! });
 	const q = parseOrThrow(matrixQuery, paramsOf(event.url));
 	const rows = await matrixAll(project.id, q);
 	await recordExport(actorOf(event.locals), project.id, {

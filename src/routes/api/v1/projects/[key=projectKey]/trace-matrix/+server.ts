@@ -1,6 +1,6 @@
 import { json } from '@sveltejs/kit';
 import { endpoint } from '$lib/server/api';
-import { requireRole } from '$lib/server/auth';
+import { access } from '$lib/server/auth';
 import { parseOrThrow } from '$lib/server/errors';
 import { jsonLinesStream } from '$lib/server/trace/export';
 import { matrixQuery, paramsOf } from '$lib/server/trace/schema';
@@ -11,7 +11,7 @@ import type { RequestHandler } from './$types';
 // parameters), or with ?all=1 every matching row as JSON lines: a first line { total, pending }, then
 // one row per line, so a client can draw the first rows before the last arrive.
 export const GET = endpoint(async (event) => {
-	const { project } = await requireRole(event, event.params.key!);
+	const { project } = await access(event, { project: event.params.key! });
 	const q = parseOrThrow(matrixQuery, paramsOf(event.url));
 	if (q.all === '1') {
 		const rows = await matrixAll(project.id, q);

@@ -1,9 +1,9 @@
 import { Readable } from 'node:stream';
 import { error } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth';
+import { access, inAddress } from '$lib/server/auth';
 import { ServiceError } from '$lib/server/errors';
 import { contentDisposition } from '$lib/server/evidence/http';
-import { openFile, parseRevision, projectOfEvidence } from '$lib/server/evidence/service';
+import { openFile, parseRevision } from '$lib/server/evidence/service';
 import type { RequestHandler } from './$types';
 
 // Same-origin inline view of an image or PDF, for the browser's own viewer on the evidence page. Every
@@ -11,12 +11,9 @@ import type { RequestHandler } from './$types';
 const INLINE = new Set(['image/png', 'image/jpeg', 'application/pdf']);
 
 export const GET = (async (event) => {
-	await requireRole(event, event.params.key);
-	const id = Number(event.params.id);
+	const { resource } = await access(event, inAddress(event.params, 'evidence'));
+	const id = resource.id;
 	try {
-		const project = await projectOfEvidence(id);
-		if (project.key !== event.params.key)
-			error(404, { message: `There is no evidence ${id} in ${event.params.key}.` });
 		const { file, body } = await openFile(id, parseRevision(event.url.searchParams.get('revision')));
 		if (!INLINE.has(file.content_type)) {
 			body.destroy();

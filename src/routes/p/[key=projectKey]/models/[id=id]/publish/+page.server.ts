@@ -1,6 +1,6 @@
-import { error, fail, redirect } from '@sveltejs/kit';
+import { fail, redirect } from '@sveltejs/kit';
 import { actorOf } from '$lib/server/audit';
-import { requireRole } from '$lib/server/auth';
+import { access, inAddress } from '$lib/server/auth';
 import { ServiceError, type FieldErrors } from '$lib/server/errors';
 import { MODEL_FILE_FORMAT } from '$lib/server/models/schema';
 import {
@@ -14,18 +14,9 @@ import type { Actions, PageServerLoad } from './$types';
 
 const EXAMPLE = [{ label: 'nominal', model: { kind: 'tf', num: [1], den: [1, 1] } }];
 
-async function modelOr404(projectId: number, id: number) {
-	try {
-		return await getModel(projectId, id);
-	} catch (e) {
-		if (e instanceof ServiceError) error(e.status, { message: e.message });
-		throw e;
-	}
-}
-
 export const load = (async (event) => {
-	const { project } = await requireRole(event, event.params.key, ['analyst']);
-	const m = await modelOr404(project.id, Number(event.params.id));
+	const { project, resource } = await access(event, inAddress(event.params, 'model'), 'writeModels');
+	const m = await getModel(project.id, resource.id);
 	const latest = m.latest_version > 0 ? await getVersion(project.id, m.id, m.latest_version) : null;
 	const reqs = await listRequirementsUsing(m.id);
 	return {
@@ -59,8 +50,8 @@ function publishErrors(e: ServiceError): FieldErrors {
 
 export const actions = {
 	publish: async (event) => {
-		const { project } = await requireRole(event, event.params.key, ['analyst']);
-		const modelId = Number(event.params.id);
+		const { project, resource } = await access(event, inAddress(event.params, 'model'), 'writeModels');
+		const modelId = resource.id;
 		const form = await event.request.formData();
 		const values = {
 			note: String(form.get('note') ?? ''),

@@ -1,6 +1,6 @@
 import { error, fail, redirect } from '@sveltejs/kit';
 import { actorOf } from '$lib/server/audit';
-import { requireRole } from '$lib/server/auth';
+import { access, inAddress } from '$lib/server/auth';
 import { ServiceError } from '$lib/server/errors';
 import {
 	formFieldErrors,
@@ -11,18 +11,14 @@ import {
 import { getRequirement, projectMembers, reviseRequirement } from '$lib/server/requirements/service';
 import type { Actions, PageServerLoad } from './$types';
 
-const WRITERS = ['engineer'] as const;
-
-async function requirementOf(projectId: number, id: string) {
-	const r = await getRequirement(Number(id));
-	if (!r || r.projectId !== projectId)
-		error(404, { message: 'There is no such requirement in this project.' });
-	return r;
-}
-
 export const load = (async (event) => {
-	const { project } = await requireRole(event, event.params.key, WRITERS);
-	const r = await requirementOf(project.id, event.params.id);
+	const { project, resource } = await access(
+		event,
+		inAddress(event.params, 'requirement'),
+		'writeRequirements'
+	);
+	const r = await getRequirement(resource.id);
+	if (!r) error(404, { message: 'There is no such requirement in this project.' });
 	const members = await projectMembers(project.id);
 	return {
 		project: { key: project.key, name: project.name },
@@ -45,8 +41,11 @@ export const load = (async (event) => {
 
 export const actions = {
 	revise: async (event) => {
-		const { project } = await requireRole(event, event.params.key, WRITERS);
-		const r = await requirementOf(project.id, event.params.id);
+		const { project, resource: r } = await access(
+			event,
+			inAddress(event.params, 'requirement'),
+			'writeRequirements'
+		);
 		const values = requirementFormValues(await event.request.formData());
 		const parsed = reviseSchema.safeParse(formInput(values, true));
 		if (!parsed.success)
@@ -69,8 +68,7 @@ export const actions = {
 		redirect(303, `/p/${project.key}/requirements/${r.id}`);
 	},
 	preview: async (event) => {
-		const { project } = await requireRole(event, event.params.key, WRITERS);
-		await requirementOf(project.id, event.params.id);
+		await access(event, inAddress(event.params, 'requirement'), 'writeRequirements');
 		const values = requirementFormValues(await event.request.formData());
 		return { action: 'preview', values };
 	}

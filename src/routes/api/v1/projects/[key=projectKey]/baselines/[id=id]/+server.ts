@@ -1,11 +1,11 @@
 import { json } from '@sveltejs/kit';
 import { endpoint } from '$lib/server/api';
-import { requireRole } from '$lib/server/auth';
+import { access, inAddress } from '$lib/server/auth';
 import { getBaseline } from '$lib/server/baselines/service';
 import type { RequestHandler } from './$types';
 
 // One baseline with its manifest; `verified` says whether the manifest still hashes to its SHA-256.
 export const GET = endpoint(async (event) => {
-	const { project } = await requireRole(event, event.params.key!);
-	return json(await getBaseline(project.id, Number(event.params.id)));
+	const { project, resource } = await access(event, inAddress(event.params, 'baseline'));
+	return json(await getBaseline(project.id, resource.id));
 }) satisfies RequestHandler;

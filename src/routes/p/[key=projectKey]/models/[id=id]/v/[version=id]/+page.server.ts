@@ -1,13 +1,13 @@
 import { error } from '@sveltejs/kit';
-import { requireRole } from '$lib/server/auth';
+import { access, inAddress } from '$lib/server/auth';
 import { runsForModelVersion } from '$lib/server/analyses/service';
 import { ServiceError } from '$lib/server/errors';
 import { getModel, getVersion } from '$lib/server/models/service';
 import type { PageServerLoad } from './$types';
 
 export const load = (async (event) => {
-	const { project } = await requireRole(event, event.params.key);
-	const modelId = Number(event.params.id);
+	const { project, resource } = await access(event, inAddress(event.params, 'model'));
+	const modelId = resource.id;
 	const n = Number(event.params.version);
 	try {
 		const m = await getModel(project.id, modelId);

@@ -1,6 +1,6 @@
 import { actorOf } from '$lib/server/audit';
 import { endpoint } from '$lib/server/api';
-import { requireRole } from '$lib/server/auth';
+import { access, inAddress } from '$lib/server/auth';
 import { getBaseline } from '$lib/server/baselines/service';
 import { workbookStream } from '$lib/server/trace/export';
 import { recordExport } from '$lib/server/trace/service';
@@ -8,8 +8,8 @@ import type { RequestHandler } from './$types';
 
 // A baseline as the same workbook as the live matrix, written from its frozen manifest.
 export const GET = endpoint(async (event) => {
-	const { project } = await requireRole(event, event.params.key!);
-	const b = await getBaseline(project.id, Number(event.params.id));
+	const { project, resource } = await access(event, inAddress(event.params, 'baseline'));
+	const b = await getBaseline(project.id, resource.id);
 	await recordExport(actorOf(event.locals), project.id, {
 		format: 'xlsx',
 		rows: b.manifest.requirements.length,

@@ -1,7 +1,7 @@
 import { json } from '@sveltejs/kit';
 import { endpoint, readJson } from '$lib/server/api';
 import { actorOf } from '$lib/server/audit';
-import { requireRole } from '$lib/server/auth';
+import { access, inAddress } from '$lib/server/auth';
 import { getModel, listVersions, publishVersion } from '$lib/server/models/service';
 import type { RequestHandler } from './$types';
 
@@ -24,8 +24,8 @@ function presentVersion(v: {
 
 // The versions of a model (members read).
 export const GET = endpoint(async (event) => {
-	const { project } = await requireRole(event, event.params.key!);
-	const m = await getModel(project.id, Number(event.params.id));
+	const { project, resource } = await access(event, inAddress(event.params, 'model'));
+	const m = await getModel(project.id, resource.id);
 	const rows = await listVersions(m.id);
 	return json({ model: { id: Number(m.id), name: m.name }, versions: rows.map(presentVersion) });
 }) satisfies RequestHandler;
@@ -33,9 +33,9 @@ export const GET = endpoint(async (event) => {
 // Publish a version: { note, operatingPoints: [{ label, model }] }. 201 with the new version; 200 with
 // the latest one when the content is identical to it (nothing created, nothing queued).
 export const POST = endpoint(async (event) => {
-	const { project } = await requireRole(event, event.params.key!, ['analyst']);
+	const { project, resource } = await access(event, inAddress(event.params, 'model'), 'writeModels');
 	const body = await readJson(event);
-	const r = await publishVersion(actorOf(event.locals), project.id, Number(event.params.id), body);
+	const r = await publishVersion(actorOf(event.locals), project.id, resource.id, body);
 	return json(
 		{
 			...presentVersion(r.version),
