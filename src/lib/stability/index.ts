@@ -16,4 +16,11 @@ export {
 export type { CheckResult, Verdict, PositiveRealClass, NumberOrInf } from './types';
 export { toTransferFunction, poles, zeros, dcGain, relativeDegree } from './model';
 export { runCheck, runCheckOnPoints, analyzeCase } from './run';
-export { nyquistCurve, sectorGeometry, popovCurve, reZCurve, type CurvePoint } from './present';
+export {
+	nyquistCurve,
+	sectorGeometry,
+	popovCurve,
+	reZCurve,
+	frequencyResponse,
+	type CurvePoint
+} from './present';
