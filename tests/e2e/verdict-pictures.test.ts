@@ -205,7 +205,7 @@ describe('verdict pictures on the requirement page', () => {
 			const shown = await page
 				.locator('[data-testid=analysis-panel] dt:has-text("Critical frequency") + dd')
 				.textContent();
-			expect(shown?.trim()).toBe(`${Number(fail.w!.toPrecision(5))} rad/s`);
+			expect(shown?.trim()).toBe(`${Number(fail.w!.toPrecision(6))} rad/s`);
 
 			for (const [who, r] of [
 				['popov-pass', popovPass],

@@ -14,12 +14,19 @@ export function testedCheck(
 	check: Check,
 	margin: number | null | undefined
 ): { decide: Check; required: number | null } {
-	if (margin === null || margin === undefined || !(margin > 0)) return { decide: check, required: null };
-	if ((check.type === 'circle' || check.type === 'popov') && Number.isFinite(check.sector[1])) {
-		const required = check.sector[1] * (1 + margin);
+	if ((check.type === 'circle' || check.type === 'popov') && widens(check.sector[1], margin)) {
+		const required = testedUpper(check.sector[1], margin);
 		return { decide: { ...check, sector: [check.sector[0], required] } as Check, required };
 	}
 	return { decide: check, required: null };
+}
+
+const widens = (k2: number, margin: number | null | undefined): margin is number =>
+	margin !== null && margin !== undefined && margin > 0 && Number.isFinite(k2);
+
+/** The upper bound a sector is tested on: k2 (1 + margin) with a positive margin, else k2. */
+export function testedUpper(k2: number, margin: number | null | undefined): number {
+	return widens(k2, margin) ? k2 * (1 + margin) : k2;
 }
 
 /**
@@ -111,4 +118,12 @@ export function decisionRegions(
 	if (widened)
 		out.push({ role: 'stated', sector: s, geometry: geo(s), label: `stated sector ${sectorText(s)}` });
 	return out;
+}
+
+/**
+ * The critical frequency as every surface writes it (result text, plot marker, export): the engine's
+ * number to six significant digits, so the same value reads the same everywhere.
+ */
+export function frequencyText(w: number): string {
+	return `${Number(w.toPrecision(6))} rad/s`;
 }

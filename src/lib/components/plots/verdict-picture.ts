@@ -1,4 +1,4 @@
-import { decisionRegions, sectorOf, type DecisionRegion } from '$lib/verification/decision';
+import { decisionRegions, frequencyText, sectorOf, type DecisionRegion } from '$lib/verification/decision';
 import type { SectorGeometry } from './frame';
 
 // What a verdict's picture shows, read from one stored run and nothing else (pure, no drawing):
@@ -57,7 +57,7 @@ function markerOf(run: StoredRun, label: string | undefined): Marker | null {
 	const w = run.result?.criticalFrequency;
 	// The marker is the engine's number: a stored point for another frequency (an older run) is not used.
 	if (!c || typeof w !== 'number' || c.w !== w) return null;
-	return { ...c, label: `critical frequency ω = ${fmt(w)} rad/s` };
+	return { ...c, label: `critical frequency ω = ${frequencyText(w)}` };
 }
 
 export function nyquistPicture(run: StoredRun): NyquistPicture {
