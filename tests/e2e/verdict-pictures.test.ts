@@ -207,6 +207,21 @@ describe('verdict pictures on the requirement page', () => {
 				.textContent();
 			expect(shown?.trim()).toBe(`${Number(fail.w!.toPrecision(6))} rad/s`);
 
+			// On a 390 px phone the picture shrinks to the 358 px the page's column has there (the page
+			// itself is wider today because of the run table's min-content; that is the page layout's job).
+			await page.setViewportSize({ width: 390, height: 844 });
+			const phone = page.locator('[data-testid=analysis-panel] [data-testid=nyquist-plot]');
+			const fits = await phone.evaluate((fig) => {
+				const panel = fig.closest('[data-testid=analysis-panel]') as HTMLElement;
+				panel.style.width = '358px';
+				const svg = fig.querySelector('svg')!.getBoundingClientRect().width;
+				return { figure: fig.getBoundingClientRect().width, svg };
+			});
+			expect(fits.figure).toBeLessThanOrEqual(358);
+			expect(fits.svg).toBeLessThanOrEqual(358);
+			await phone.screenshot({ path: join(screens(), 'nyquist-failing-358.png') });
+			await page.setViewportSize({ width: 1440, height: 900 });
+
 			for (const [who, r] of [
 				['popov-pass', popovPass],
 				['popov-fail', popovFail]
