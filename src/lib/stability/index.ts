@@ -25,5 +25,6 @@ export {
 	regionWords,
 	popovCurve,
 	reZCurve,
+	frequencyResponse,
 	type CurvePoint
 } from './present';

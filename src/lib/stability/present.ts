@@ -101,6 +101,17 @@ export function nyquistCurve(model: Model, opts: CurveOptions = {}): CurvePoint[
 		.map((p) => ({ ...p, w: p.w * plant.w0 }));
 }
 
+/**
+ * G(jw) at one frequency (rad/s), evaluated like the curves (scaled frequency, the plant's exact
+ * polynomials rounded once to doubles). Plots use it to place a marker exactly at a frequency the engine
+ * reported, rather than at the nearest sample of a curve.
+ */
+export function frequencyResponse(model: Model, w: number): CurvePoint {
+	const plant = plantOf(model);
+	const g = gEvaluator(plant)(w / plant.w0);
+	return { w, re: g.re, im: g.im };
+}
+
 export type SectorGeometry =
 	| {
 			kind: 'disk';

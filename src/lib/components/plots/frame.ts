@@ -148,3 +148,63 @@ export function regionPath(frame: Frame, g: SectorGeometry): { d: string; rule: 
 	if (g.curveMust === 'stay-outside') return { d: circle, rule: 'nonzero' };
 	return { d: `M${x},${y}H${x + w}V${y + h}H${x}Z` + circle, rule: 'evenodd' };
 }
+
+const unionBox = (boxes: Box[]): Box =>
+	boxes.reduce(
+		(b, e) => ({
+			x0: Math.min(b.x0, e.x0),
+			x1: Math.max(b.x1, e.x1),
+			y0: Math.min(b.y0, e.y0),
+			y1: Math.max(b.y1, e.y1)
+		}),
+		{ x0: Infinity, x1: -Infinity, y0: Infinity, y1: -Infinity }
+	);
+
+/**
+ * The box a decision plot shows. The part of the plane that decides is around the forbidden region,
+ * the critical point and the marker (`focus`); when the curve spans far more than that (an integrator's
+ * curve runs off to infinity along an asymptote) the axes are chosen around the focus, with room for
+ * the curve nearby, and `far` says that the curve continues outside the frame.
+ */
+export function focusedBox(xy: [number, number][], focus: Box[]): { box: Box; far: boolean } {
+	const f = unionBox([...focus, { x0: 0, x1: 0, y0: 0, y1: 0 }]);
+	const full = robustBox(xy, focus);
+	const span = (b: Box) => Math.max(b.x1 - b.x0, b.y1 - b.y0);
+	const sf = Math.max(span(f), 1e-9);
+	const finite = xy.filter(([a, b]) => Number.isFinite(a) && Number.isFinite(b));
+	const outsideFull = finite.some(([a, b]) => a < full.x0 || a > full.x1 || b < full.y0 || b > full.y1);
+	if (span(full) <= 6 * sf) return { box: full, far: outsideFull };
+	// Keep the curve within about twice the focus size around it.
+	const m = sf;
+	const zoom = { x0: f.x0 - m, x1: f.x1 + m, y0: f.y0 - m, y1: f.y1 + m };
+	const near = finite.filter(([a, b]) => a >= zoom.x0 && a <= zoom.x1 && b >= zoom.y0 && b <= zoom.y1);
+	return { box: unionBox([f, ...near.map(([a, b]) => ({ x0: a, x1: a, y0: b, y1: b }))]), far: true };
+}
+
+/** Where a curve leaves the frame's plotting area: an arrow position on the edge and its direction (radians). */
+export function exitsOf(frame: Frame, xy: [number, number][]): { x: number; y: number; angle: number }[] {
+	const [X0, X1] = frame.x.domain();
+	const [Y0, Y1] = frame.y.domain();
+	const inside = ([a, b]: [number, number]) =>
+		Number.isFinite(a) && Number.isFinite(b) && a >= X0 && a <= X1 && b >= Y0 && b <= Y1;
+	const out: { x: number; y: number; angle: number }[] = [];
+	const r = innerRect(frame);
+	for (let i = 1; i < xy.length; i++) {
+		const a = xy[i - 1];
+		const b = xy[i];
+		const ia = inside(a);
+		const ib = inside(b);
+		if (ia === ib) continue;
+		const [p, q] = ia ? [a, b] : [b, a];
+		if (!Number.isFinite(q[0]) || !Number.isFinite(q[1])) continue;
+		const px = frame.x(p[0]);
+		const py = frame.y(p[1]);
+		const angle = Math.atan2(frame.y(q[1]) - py, frame.x(q[0]) - px);
+		out.push({
+			x: Math.max(r.x + 6, Math.min(r.x + r.w - 6, px)),
+			y: Math.max(r.y + 6, Math.min(r.y + r.h - 6, py)),
+			angle
+		});
+	}
+	return out.slice(0, 8);
+}

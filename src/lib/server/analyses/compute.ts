@@ -1,15 +1,15 @@
 import { createHash } from 'node:crypto';
 import {
-	ModelInputError,
+	frequencyResponse,
 	nyquistCurve,
 	parseCheck,
 	popovCurve,
 	runCheckOnPoints,
 	sectorGeometry,
-	type Check,
 	type CheckResult,
 	type Model
 } from '../../stability/index';
+import { coveredPoints, testedCheck } from '../../verification/decision';
 import { canonical } from '../audit';
 
 // One analysis run: the specification's check on every covered operating point of a model version.
@@ -24,12 +24,21 @@ export interface RunInputs {
 }
 
 export interface RunCurves {
-	/** Forbidden region of the circle criterion for the required sector (plots draw it). */
+	/**
+	 * Forbidden region of the circle criterion for the sector the verdict was decided on (the stated
+	 * sector widened by the required margin, result.decidedWith).
+	 */
 	sector?: ReturnType<typeof sectorGeometry>;
 	/** [w, re, im] triples, rounded to 6 significant digits. */
 	points: {
 		label: string;
 		nyquist: [number, number, number][];
+		/**
+		 * G(jw) at this point's critical frequency exactly as the engine reported it (w is the result's
+		 * criticalFrequency, not rounded), so a plot marks that frequency, not a nearby sample.
+		 */
+		critical?: { w: number; re: number; im: number } | null;
+		/** The line is drawn for the decided k with the multiplier q the verdict used (or the best one found). */
 		popov?: { xy: [number, number][]; line: { k: number; q: number } | null };
 	}[];
 }
@@ -53,16 +62,6 @@ function num(v: unknown): number | null {
 
 const json = (x: number | null) => (x === Infinity ? 'Infinity' : x === -Infinity ? '-Infinity' : x);
 
-/** The check to decide with: a required margin widens the upper sector bound (k2 -> k2 (1 + margin)). */
-function effectiveCheck(check: Check, margin: number | null): { decide: Check; required: number | null } {
-	if (margin === null || !(margin > 0)) return { decide: check, required: null };
-	if ((check.type === 'circle' || check.type === 'popov') && Number.isFinite(check.sector[1])) {
-		const required = check.sector[1] * (1 + margin);
-		return { decide: { ...check, sector: [check.sector[0], required] } as Check, required };
-	}
-	return { decide: check, required: null };
-}
-
 function brief(r: CheckResult & { label: string }) {
 	return {
 		label: r.label,
@@ -78,24 +77,8 @@ export function computeRun(inputs: RunInputs): RunOutput {
 	// Validated once, with the engine's spellings of an infinite bound ("Infinity", null); the engine entry
 	// points below accept the parsed check as it is.
 	const check = parseCheck(inputs.check, 'check');
-	const all = inputs.content?.operatingPoints;
-	if (!Array.isArray(all) || all.length === 0)
-		throw new ModelInputError([
-			{ path: 'operatingPoints', message: 'the model version has no operating point' }
-		]);
-	let points = all;
-	if (inputs.operatingPoints && inputs.operatingPoints.length) {
-		const missing = inputs.operatingPoints.filter((l) => !all.some((p) => p.label === l));
-		if (missing.length)
-			throw new ModelInputError([
-				{
-					path: 'operatingPoints',
-					message: `the specification covers operating points this version lacks: ${missing.join(', ')}`
-				}
-			]);
-		points = all.filter((p) => inputs.operatingPoints!.includes(p.label));
-	}
-	const { decide, required } = effectiveCheck(check, inputs.requiredMargin);
+	const points = coveredPoints(inputs.content?.operatingPoints, inputs.operatingPoints);
+	const { decide, required } = testedCheck(check, inputs.requiredMargin);
 	const agg = runCheckOnPoints(points, decide);
 
 	// The proved upper bound next to the required one: for a circle check, the largest k2 proved for the
@@ -134,9 +117,10 @@ export function computeRun(inputs: RunInputs): RunOutput {
 	};
 
 	const curves: RunCurves = { points: [] };
-	if (check.type === 'circle') curves.sector = sectorGeometry(check.sector[0], check.sector[1]);
+	if (decide.type === 'circle') curves.sector = sectorGeometry(decide.sector[0], decide.sector[1]);
+	const resultOf = (label: string) => agg.perPoint.find((p) => p.label === label);
 	const focusOf = (label: string) => {
-		const w = agg.perPoint.find((p) => p.label === label)?.criticalFrequency;
+		const w = resultOf(label)?.criticalFrequency;
 		return typeof w === 'number' && w > 0 ? [w] : [];
 	};
 	// Curves for at most 12 points: the worst first.
@@ -147,9 +131,14 @@ export function computeRun(inputs: RunInputs): RunOutput {
 		const ny = nyquistCurve(p.model, { maxPoints: 500, focus: focusOf(p.label) }).map(
 			(c) => [round(c.w), round(c.re), round(c.im)] as [number, number, number]
 		);
-		const entry: RunCurves['points'][number] = { label: p.label, nyquist: ny };
-		if (check.type === 'popov') {
-			const pc = popovCurve(p.model, { maxPoints: 500, k: check.sector[1] });
+		const wc = resultOf(p.label)?.criticalFrequency;
+		const critical =
+			typeof wc === 'number' && Number.isFinite(wc) && wc > 0 ? frequencyResponse(p.model, wc) : null;
+		const entry: RunCurves['points'][number] = { label: p.label, nyquist: ny, critical };
+		if (decide.type === 'popov') {
+			const own = resultOf(p.label);
+			const q = num(own?.q ?? null) ?? num(own?.numbers?.q ?? null) ?? undefined;
+			const pc = popovCurve(p.model, { maxPoints: 500, k: decide.sector[1], q });
 			entry.popov = {
 				xy: pc.points.map((c) => [round(c.x), round(c.y)] as [number, number]),
 				line: pc.line ? { k: pc.line.k, q: pc.line.q } : null

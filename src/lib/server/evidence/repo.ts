@@ -277,6 +277,7 @@ export const evidenceRepo = {
 				's.version as spec_version',
 				's.check',
 				's.operating_points',
+				's.required_margin',
 				'm.id as model_id',
 				'm.name as model_name',
 				'mv.id as model_version_id',
@@ -289,6 +290,7 @@ export const evidenceRepo = {
 					spec_version: number;
 					check: unknown;
 					operating_points: string[] | null;
+					required_margin: number | null;
 					model_id: number;
 					model_name: string;
 					model_version_id: number | null;

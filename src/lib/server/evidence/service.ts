@@ -7,8 +7,8 @@ import {
 	modelSchema,
 	nyquistCurve,
 	regionMargin,
-	sectorGeometry
 } from '../../stability/index';
+import { type DecisionRegion, decisionRegions, testedCheck } from '../../verification/decision';
 import { type Actor, historyOf, recordEvent } from '../audit';
 import { config } from '../config';
 import { db } from '../db';
@@ -713,7 +713,8 @@ export interface RequirementComparison {
 	tolerance: { relativeError: number; phaseDeg: number; isDefault: boolean };
 	agreement: Agreement[];
 	plot: {
-		region: ReturnType<typeof sectorGeometry> | null;
+		/** The region sampled against (the sector widened by the required margin) and the stated one. */
+		regions: DecisionRegion[];
 		modelCurves: { label: string; points: { re: number; im: number }[] }[];
 		measured: { w: number; re: number; im: number; ok: boolean | null }[];
 	};
@@ -740,7 +741,7 @@ export async function compareMeasured(
 			tolerance,
 			agreement: [],
 			plot: {
-				region: null,
+				regions: [],
 				modelCurves: [],
 				measured: resp.points.map((p) => ({ w: p.w, re: p.re, im: p.im, ok: null }))
 			}
@@ -756,13 +757,21 @@ export async function compareMeasured(
 			continue;
 		}
 		base.spec = { id: s.spec_id, version: s.spec_version, check: check.data };
-		const sampled = sampledSectorCheck(resp.points, check.data);
+		// Sampled against the sector the analysis decides with (the required margin applied), like the run.
+		const tested = testedCheck(check.data, s.required_margin).decide;
+		const sampled = sampledSectorCheck(resp.points, tested);
 		base.sampled = sampled;
 		if (check.data.type === 'circle' || check.data.type === 'popov') {
-			const [k1, k2] = check.data.sector;
-			base.plot.region = check.data.type === 'circle' ? sectorGeometry(k1, k2) : sectorGeometry(0, k2);
+			base.plot.regions = decisionRegions(check.data, tested, s.required_margin);
 		} else if (check.data.type === 'positive-real') {
-			base.plot.region = { kind: 'half-plane', boundary: 0, curveMust: 'stay-right' };
+			base.plot.regions = [
+				{
+					role: 'tested',
+					sector: [0, Infinity],
+					geometry: { kind: 'half-plane', boundary: 0, curveMust: 'stay-right' },
+					label: 'positive real: Re G(jω) > 0'
+				}
+			];
 		}
 		if (sampled.region) {
 			const region = sampled.region;

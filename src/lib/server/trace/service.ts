@@ -1,4 +1,5 @@
 import { ENGINE_VERSION } from '../../stability/index';
+import { frequencyText, testedUpper } from '../../verification/decision';
 import { combine, type AnalysisStateName, type CombinedState, type OpenItem } from '../../trace/states';
 import { recordEvent, type Actor } from '../audit';
 import { db, type Db } from '../db';
@@ -170,8 +171,11 @@ export function certifiedNumbers(
 	}
 	const sector = check?.sector as unknown[] | undefined;
 	const k2 = sector ? num(sector[1]) : null;
-	const required = k2 === null ? null : requiredMargin ? k2 * (1 + requiredMargin) : k2;
+	const required = k2 === null ? null : testedUpper(k2, requiredMargin);
 	const bound = num(result.threshold);
+	// The engine's critical frequency, the number the plots mark and the API gives.
+	const wc = num(result.criticalFrequency);
+	const critical = wc !== null && Number.isFinite(wc) ? `, critical frequency ${frequencyText(wc)}` : '';
 	const reqText =
 		k2 === null
 			? ''
@@ -182,19 +186,20 @@ export function certifiedNumbers(
 		return {
 			certified: bound,
 			required,
-			text: `certified upper bound ${fmt(bound)}${reqText ? ' vs ' + reqText : ''}`
+			text: `certified upper bound ${fmt(bound)}${reqText ? ' vs ' + reqText : ''}${critical}`
 		};
 	}
 	const margin = num(result.margin);
 	return {
 		certified: null,
 		required,
-		text: [
-			sector ? `sector [${fmt(num(sector[0]))}, ${fmt(k2 ?? Infinity)}]` : '',
-			margin !== null ? `min Re Z ${fmt(margin)}` : ''
-		]
-			.filter(Boolean)
-			.join(', ')
+		text:
+			[
+				sector ? `sector [${fmt(num(sector[0]))}, ${fmt(k2 ?? Infinity)}]` : '',
+				margin !== null ? `min Re Z ${fmt(margin)}` : ''
+			]
+				.filter(Boolean)
+				.join(', ') + critical
 	};
 }
 

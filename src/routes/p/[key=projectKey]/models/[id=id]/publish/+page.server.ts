@@ -24,16 +24,16 @@ export const load = (async (event) => {
 		model: { id: Number(m.id), name: m.name, latestVersion: m.latest_version },
 		fileFormat: MODEL_FILE_FORMAT,
 		initialPoints: JSON.stringify(latest ? latest.content.operatingPoints : EXAMPLE, null, 2),
-		sectors: reqs
-			.filter((r) => r.check?.type === 'circle' && Array.isArray(r.check.sector))
-			.map((r) => ({
-				identifier: r.identifier,
-				k1: Number(r.check.sector![0]),
-				k2:
-					r.check.sector![1] === null || r.check.sector![1] === 'Infinity'
-						? Infinity
-						: Number(r.check.sector![1])
-			}))
+		// Every requirement whose specification uses this model: the preview decides each on the new
+		// version in the browser, with the same engine and the same tested sector as the worker.
+		requirements: reqs.map((r) => ({
+			identifier: r.identifier,
+			title: r.title,
+			check: r.check as unknown,
+			requiredMargin: r.required_margin === null ? null : Number(r.required_margin),
+			operatingPoints: r.operating_points,
+			pinnedVersion: r.pinned_version === null ? null : Number(r.pinned_version)
+		}))
 	};
 }) satisfies PageServerLoad;
 
