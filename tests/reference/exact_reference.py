@@ -433,6 +433,19 @@ def stationary_points(E, M):
     return refine_roots(E.diff(X) * M - E * M.diff(X))
 
 
+def with_ties(vals, inf_val):
+    """The smallest of the candidate values (and of the limit as x -> infinity, x = None), its argument,
+    and every candidate within TIE (relative) of it: any of those is an acceptable critical frequency."""
+    best, arg = min(vals, key=lambda t: t[0])
+    if inf_val < best:
+        best, arg = inf_val, None
+    tol = TIE * max(abs(best), mpmath.mpf('1e-300'))
+    ties = [xv for v, xv in vals if v - best <= tol]
+    if inf_val - best <= tol:
+        ties.append(None)
+    return {'value': best, 'x': arg, 'ties': ties}
+
+
 def min_ratio(E, M, cands=None):
     """min over x >= 0 of E(x)/M(x), M > 0 on [0, inf): value, argmin x (None = at infinity), ties."""
     if cands is None:
@@ -447,14 +460,7 @@ def min_ratio(E, M, cands=None):
         inf_val = mpf_of(lc(E) / lc(M))
     else:
         inf_val = mpmath.mpf(0)
-    best, arg = min(vals, key=lambda t: t[0])
-    if inf_val < best:
-        return {'value': inf_val, 'x': None, 'ties': [None]}
-    tol = TIE * max(abs(best), mpmath.mpf('1e-300'))
-    ties = [xv for v, xv in vals if v - best <= tol]
-    if inf_val - best <= tol:
-        ties.append(None)
-    return {'value': best, 'x': arg, 'ties': ties}
+    return with_ties(vals, inf_val)
 
 
 def w_out(xv):
@@ -549,14 +555,7 @@ def sector_limit(N, D, k1, cands=None):
         inf_val = mpmath.inf if dA > dB else (mpf_of(-lc(A) / lc(B)) if dA == dB else mpmath.mpf(0))
     if not vals:
         return {'value': inf_val, 'x': None, 'ties': [None] if inf_val != mpmath.inf else []}
-    best, arg = min(vals, key=lambda t: t[0])
-    if inf_val < best:
-        return {'value': inf_val, 'x': None, 'ties': [None]}
-    tol = TIE * abs(best)
-    ties = [xv for v, xv in vals if v - best <= tol]
-    if inf_val - best <= tol:
-        ties.append(None)
-    return {'value': best, 'x': arg, 'ties': ties}
+    return with_ties(vals, inf_val)
 
 
 def gain_intervals(N, D):

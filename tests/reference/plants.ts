@@ -144,7 +144,9 @@ export function generatePlants(seed = 20261202): GeneratedPlant[] {
 		const n = int(2, 14);
 		const poles = randomPoles(n, 0.1, 100, r() < 0.15);
 		const zeros = randomZeros(int(0, Math.min(n, 4)));
-		const dc = poles.reduce((a, p) => a * Math.hypot(p[0], p[1]), 1) / zeros.reduce((a, z) => a * Math.hypot(z[0], z[1]), 1);
+		const dc =
+			poles.reduce((a, p) => a * Math.hypot(p[0], p[1]), 1) /
+			zeros.reduce((a, z) => a * Math.hypot(z[0], z[1]), 1);
 		push('zpk', { kind: 'zpk', zeros, poles, gain: sig(sign() * dc * logu(0.1, 10), 6) }, n);
 	}
 
@@ -152,7 +154,9 @@ export function generatePlants(seed = 20261202): GeneratedPlant[] {
 	for (let i = 0; i < 25; i++) {
 		const n = int(2, 5);
 		const A = Array.from({ length: n }, (_, a) =>
-			Array.from({ length: n }, (_, b) => (a === b ? sig(-uni(0.2, 3), 3) : r() < 0.4 ? 0 : sig(uni(-2, 2), 3)))
+			Array.from({ length: n }, (_, b) =>
+				a === b ? sig(-uni(0.2, 3), 3) : r() < 0.4 ? 0 : sig(uni(-2, 2), 3)
+			)
 		);
 		const B = Array.from({ length: n }, () => [sig(uni(-1, 1), 3)]);
 		const C = [Array.from({ length: n }, () => sig(uni(-2, 2), 3))];
@@ -161,7 +165,14 @@ export function generatePlants(seed = 20261202): GeneratedPlant[] {
 	}
 
 	/** Block-diagonal (modal) model: 2x2 blocks [[s, w], [-w, s]] per mode, damping zmin..zmax. */
-	const modal = (modes: number, wlo: number, whi: number, zmin: number, zmax: number, feed: number): Model => {
+	const modal = (
+		modes: number,
+		wlo: number,
+		whi: number,
+		zmin: number,
+		zmax: number,
+		feed: number
+	): Model => {
 		const n = 2 * modes;
 		const A = Array.from({ length: n }, () => new Array(n).fill(0));
 		const B = Array.from({ length: n }, () => [0]);
@@ -184,10 +195,15 @@ export function generatePlants(seed = 20261202): GeneratedPlant[] {
 	};
 	for (let i = 0; i < 30; i++) {
 		const modes = int(3, 8);
-		push('modal', modal(modes, logu(0.1, 2), logu(5, 100), 0.005, 0.2, r() < 0.3 ? sig(uni(0, 1), 2) : 0), 2 * modes);
+		push(
+			'modal',
+			modal(modes, logu(0.1, 2), logu(5, 100), 0.005, 0.2, r() < 0.3 ? sig(uni(0, 1), 2) : 0),
+			2 * modes
+		);
 	}
 	// Order 40: twenty lightly damped modes (damping 0.005..0.05) over two decades.
-	for (let i = 0; i < 8; i++) push('modal40', modal(20, uni(0.3, 1), uni(30, 100), 0.005, 0.05, 0), 40, ORDER40);
+	for (let i = 0; i < 8; i++)
+		push('modal40', modal(20, uni(0.3, 1), uni(30, 100), 0.005, 0.05, 0), 40, ORDER40);
 
 	// Positive-real families with poles on the imaginary axis at integer frequencies (Foster forms
 	// c0/s + sum c_i s/(s^2 + w_i^2) + d, Khalil 3rd ed. Definition 6.4): all residues positive (PR), one
@@ -205,7 +221,9 @@ export function generatePlants(seed = 20261202): GeneratedPlant[] {
 		const terms: { num: number[]; den: number[] }[] = [];
 		terms.push({ num: [int(1, 4) / 2], den: [1, 0] });
 		const ws = [1, 2, 3, 4].slice(0, int(1, 2));
-		ws.forEach((w, j) => terms.push({ num: [(kind === 1 && j === 0 ? -1 : 1) * (int(1, 4) / 4), 0], den: [1, 0, w * w] }));
+		ws.forEach((w, j) =>
+			terms.push({ num: [(kind === 1 && j === 0 ? -1 : 1) * (int(1, 4) / 4), 0], den: [1, 0, w * w] })
+		);
 		if (kind === 2) terms.push({ num: [int(1, 3)], den: [1, int(1, 5)] });
 		const add = (a: { num: number[]; den: number[] }, b: { num: number[]; den: number[] }) => {
 			const mul = (x: number[], y: number[]) => {
@@ -228,15 +246,79 @@ export function generatePlants(seed = 20261202): GeneratedPlant[] {
 	// The cases of issue 11 and hidden modes (a state-space model whose unstable mode is uncontrollable or
 	// unobservable; the same with a stable hidden mode).
 	const fixed: [string, Model, Recipe[]][] = [
-		['ill-posed', { kind: 'tf', num: [-1, 0], den: [1, 1] }, [{ case: 'explicit', sector: [0, 1] }, { case: 'explicit', sector: [-1, 1] }, ...FULL]],
+		[
+			'ill-posed',
+			{ kind: 'tf', num: [-1, 0], den: [1, 1] },
+			[{ case: 'explicit', sector: [0, 1] }, { case: 'explicit', sector: [-1, 1] }, ...FULL]
+		],
 		['common-unstable-factor', { kind: 'tf', num: [1, -1], den: [1, 1, -2] }, FULL],
-		['zero-plant', { kind: 'tf', num: [0], den: [1, 1] }, [{ case: 'explicit', sector: [0, 5] }, { case: 'inf' }]],
+		[
+			'zero-plant',
+			{ kind: 'tf', num: [0], den: [1, 1] },
+			[{ case: 'explicit', sector: [0, 5] }, { case: 'inf' }]
+		],
 		['one-rhp-pole', { kind: 'tf', num: [1], den: [1, -1] }, FULL],
-		['critical-frequency', { kind: 'tf', num: [1], den: [1, 0.6, 5.08, 1.2, 4] }, [{ case: 'explicit', sector: [0, 1.6] }, ...FULL, ...NEAR]],
-		['khalil-7.1', { kind: 'zpk', zeros: [], poles: [[-1, 0], [-2, 0], [-3, 0]], gain: 24 }, [...FULL, ...NEAR]],
-		['hidden-unstable-uncontrollable', { kind: 'ss', A: [[-1, 0], [0, 1]], B: [[1], [0]], C: [[1, 1]], D: [[0]] }, FULL],
-		['hidden-unstable-unobservable', { kind: 'ss', A: [[-1, 0], [0, 1]], B: [[1], [1]], C: [[1, 0]], D: [[0]] }, FULL],
-		['hidden-stable', { kind: 'ss', A: [[-1, 0], [0, -3]], B: [[1], [0]], C: [[1, 1]], D: [[0]] }, FULL],
+		[
+			'critical-frequency',
+			{ kind: 'tf', num: [1], den: [1, 0.6, 5.08, 1.2, 4] },
+			[{ case: 'explicit', sector: [0, 1.6] }, ...FULL, ...NEAR]
+		],
+		[
+			'khalil-7.1',
+			{
+				kind: 'zpk',
+				zeros: [],
+				poles: [
+					[-1, 0],
+					[-2, 0],
+					[-3, 0]
+				],
+				gain: 24
+			},
+			[...FULL, ...NEAR]
+		],
+		[
+			'hidden-unstable-uncontrollable',
+			{
+				kind: 'ss',
+				A: [
+					[-1, 0],
+					[0, 1]
+				],
+				B: [[1], [0]],
+				C: [[1, 1]],
+				D: [[0]]
+			},
+			FULL
+		],
+		[
+			'hidden-unstable-unobservable',
+			{
+				kind: 'ss',
+				A: [
+					[-1, 0],
+					[0, 1]
+				],
+				B: [[1], [1]],
+				C: [[1, 0]],
+				D: [[0]]
+			},
+			FULL
+		],
+		[
+			'hidden-stable',
+			{
+				kind: 'ss',
+				A: [
+					[-1, 0],
+					[0, -3]
+				],
+				B: [[1], [0]],
+				C: [[1, 1]],
+				D: [[0]]
+			},
+			FULL
+		],
 		['negative-feedthrough', { kind: 'tf', num: [-0.5, 1, 2], den: [1, 3, 2] }, FULL],
 		// The 4-fold lightly damped mode of tests/unit/stability/property.test.ts (unit DC gain).
 		['four-fold-mode', fourFold(), [...FULL, ...NEAR]]

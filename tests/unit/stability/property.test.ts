@@ -69,7 +69,11 @@ function expectLimit(r: ReturnType<typeof runCheck>, ref: { limit: number; w: nu
 /** The tf form is the same function as the factors: 64-digit evaluation of its coefficients vs the factors. */
 function expectSameFunction(tf: { num: number[]; den: number[] }, ps: Root[], zs: Root[], gain: number) {
 	const mags = ps.map((p) => Math.hypot(p.re, p.im));
-	for (const w of [Math.min(...mags) / 3, Math.sqrt(Math.min(...mags) * Math.max(...mags)), Math.max(...mags) * 3]) {
+	for (const w of [
+		Math.min(...mags) / 3,
+		Math.sqrt(Math.min(...mags) * Math.max(...mags)),
+		Math.max(...mags) * 3
+	]) {
 		const a = gJwBig(tf.num, tf.den, w);
 		const b = zpkJw(ps, zs, gain, w);
 		expect(Math.hypot(a.re - b.re, a.im - b.im)).toBeLessThan(1e-10 * Math.hypot(b.re, b.im));
@@ -176,7 +180,10 @@ describe('scaling invariance', () => {
 				expectSameFunction(tf, ps, [], dc);
 				const ref = refLimitFromFactors(ps, [], dc);
 				const c = 10 ** e;
-				expectLimit(runCheck({ kind: 'tf', num: tf.num, den: tf.den }, { type: 'max-sector', lower: 0 }), ref);
+				expectLimit(
+					runCheck({ kind: 'tf', num: tf.num, den: tf.den }, { type: 'max-sector', lower: 0 }),
+					ref
+				);
 				expectLimit(
 					runCheck(
 						{ kind: 'tf', num: tf.num.map((v) => v * c), den: tf.den.map((v) => v * c) },
