@@ -29,6 +29,7 @@ import { createInterface } from 'node:readline';
 import { fileURLToPath } from 'node:url';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { ENGINE_VERSION, type CheckResult } from '../../src/lib/stability/index';
+import { refLimitFromFactors } from '../unit/stability/helpers';
 import { generatePlants, type GeneratedPlant } from './plants';
 
 const HERE = dirname(fileURLToPath(import.meta.url));
@@ -98,7 +99,14 @@ interface RefPlant {
 	gainIntervals: [Num, Num][];
 	positiveReal: { class: 'SPR' | 'PR' | 'neither' | 'undecided'; why: string };
 	sectors: RefSector[];
-	selfCheck: { freqrespMaxRelDiff: number; ss2tfMaxDiff?: number; routhAgreesWithNumpy?: boolean };
+	selfCheck: {
+		freqrespMaxRelDiff: number;
+		ss2tfMaxDiff?: number;
+		routhAgreesWithNumpy?: boolean;
+		routhFilterAgreesWithExact?: boolean;
+		gridMinReG?: number;
+		gridNotBelowExact?: boolean;
+	};
 	seconds: number;
 }
 interface RefOut {
@@ -480,12 +488,14 @@ describe(`engine ${ENGINE_VERSION} vs the exact reference (${LIBS})`, () => {
 		expect(ref.plants.filter((p) => p.positiveReal.class === 'undecided')).toEqual([]);
 	});
 
-	it(`the reference's own cross-checks hold: scipy ${V.scipy} freqresp/freqs/freqs_zpk and ss2tf agree with the exact sympy conversion, Routh with numpy ${V.numpy} roots`, () => {
+	it(`the reference's own cross-checks hold: scipy ${V.scipy} freqresp/freqs/freqs_zpk and ss2tf agree with the exact sympy conversion, no scipy-sampled Re G below the exact minimum, Routh with numpy ${V.numpy} roots`, () => {
 		const bad = ref.plants.filter(
 			(p) =>
 				!(p.selfCheck.freqrespMaxRelDiff <= 1e-7) ||
 				(p.selfCheck.ss2tfMaxDiff !== undefined && !(p.selfCheck.ss2tfMaxDiff <= 1e-9)) ||
-				p.selfCheck.routhAgreesWithNumpy === false
+				p.selfCheck.routhAgreesWithNumpy === false ||
+				p.selfCheck.routhFilterAgreesWithExact === false ||
+				p.selfCheck.gridNotBelowExact === false
 		);
 		expect(bad.map((p) => ({ id: p.id, ...p.selfCheck }))).toEqual([]);
 	});
@@ -508,6 +518,21 @@ describe(`engine ${ENGINE_VERSION} vs the exact reference (${LIBS})`, () => {
 
 	it(`PR / SPR class (Khalil Definition 6.4, Lemma 6.1) and min Re G agree with the exact reference (sympy ${V.sympy})`, () => {
 		expect(report('PR / SPR class')).toEqual([]);
+	});
+
+	it(`the factor-based reference of the property tests (helpers.ts refLimitFromFactors) agrees with the exact k1 = 0 limits of every zpk plant within 1e-9 (sympy ${V.sympy})`, () => {
+		const bad: unknown[] = [];
+		let n = 0;
+		for (const p of ref.plants) {
+			const m = byId.get(p.id)!.model;
+			if (m.kind !== 'zpk' || !p.hurwitz) continue;
+			const c = (l: [number, number][]) => l.map(([re, im]) => ({ re, im }));
+			const r = refLimitFromFactors(c(m.poles), c(m.zeros), m.gain);
+			n++;
+			if (!close(r.limit, num(p.limit0))) bad.push({ id: p.id, factors: r.limit, exact: p.limit0Str });
+		}
+		expect(n).toBeGreaterThan(40);
+		expect(bad).toEqual([]);
 	});
 
 	it(`every check answers within ${CHECK_BUDGET_MS / 1000} s without an error`, () => {

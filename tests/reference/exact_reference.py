@@ -403,13 +403,9 @@ def refine_roots(Sp):
             out.append(a)
             continue
         sa, sb = ip.sign(a), ip.sign(b)
-        if sa == 0:
-            out.append(a)
-            continue
-        if sb == 0:
-            out.append(b)
-            continue
-        if sa != sb:
+        # An end of an isolating interval can be a neighbouring root (reported separately): then, as for a
+        # root of even multiplicity, sympy's own exact refinement takes over.
+        if sa != sb and sa != 0 and sb != 0:
             lo, hi = a, b
             while hi - lo > abs(hi) * Fraction(1, 2**70):
                 mid = (lo + hi) / 2
@@ -672,16 +668,8 @@ def positive_real(N, D, ere, min_re_g):
 # ---------------------------------------------------------------- scipy cross-checks
 
 
-def freq_check(model, N, D):
-    """Largest relative difference between scipy's float frequency response of the model as entered and the
-    exact N/D evaluated in 50 digits, over frequencies spread around the poles."""
-    Dc = [float(c) for c in coeffs_desc(D)]
-    roots = numpy.roots(Dc) if len(Dc) > 1 else numpy.array([1.0])
-    mags = [abs(r) for r in roots if abs(r) > 0] or [1.0]
-    lo, hi = min(mags), max(mags)
-    ws = numpy.geomspace(lo / 7.3, hi * 7.3, 23)
-    # Keep away from imaginary-axis poles and very sharp resonances (the float reference loses digits there).
-    ws = [w for w in ws if all(abs(abs(r.imag) - w) > 1e-3 * w or abs(r.real) > 1e-2 * w for r in roots)]
+def response(model, ws):
+    """G(jw) in floats by scipy, from the model as entered (state space, zeros/poles, or coefficients)."""
     if model['kind'] == 'ss':
         _, H = signal.freqresp(
             signal.StateSpace(
@@ -698,6 +686,28 @@ def freq_check(model, N, D):
         _, H = signal.freqs_zpk(z, p, model['gain'], worN=ws)
     else:
         _, H = signal.freqs(model['num'], model['den'], worN=ws)
+    return numpy.asarray(H)
+
+
+def freq_check(model, N, D, min_re_g):
+    """Largest relative difference between scipy's float frequency response of the model as entered and the
+    exact N/D evaluated in 50 digits, over frequencies spread around the poles."""
+    Dc = [float(c) for c in coeffs_desc(D)]
+    roots = numpy.roots(Dc) if len(Dc) > 1 else numpy.array([1.0])
+    mags = [abs(r) for r in roots if abs(r) > 0] or [1.0]
+    lo, hi = min(mags), max(mags)
+    ws = numpy.geomspace(lo / 7.3, hi * 7.3, 23)
+    # Keep away from imaginary-axis poles and very sharp resonances (the float reference loses digits there).
+    ws = [w for w in ws if all(abs(abs(r.imag) - w) > 1e-3 * w or abs(r.real) > 1e-2 * w for r in roots)]
+    H = response(model, ws)
+    out = {}
+    if min_re_g is not None and mpmath.isfinite(min_re_g['value']):
+        # No sampled frequency (scipy, 4000 points) may go below the exact minimum of Re G.
+        wg = numpy.concatenate([[0.0], numpy.geomspace(lo / 1e3, hi * 1e3, 4000)])
+        gmin = float(numpy.min(response(model, wg).real))
+        ref_min = float(min_re_g['value'])
+        out['gridMinReG'] = gmin
+        out['gridNotBelowExact'] = bool(gmin >= ref_min - 1e-9 * abs(ref_min) - 1e-300)
     Nm = [mpf_of(c) for c in coeffs_desc(N)] if not N.is_zero else [mpmath.mpf(0)]
     Dm = [mpf_of(c) for c in coeffs_desc(D)]
     worst = 0.0
@@ -706,7 +716,7 @@ def freq_check(model, N, D):
         g = mpmath.polyval(Nm, jw) / mpmath.polyval(Dm, jw)
         d = abs(complex(g) - complex(h)) / max(abs(complex(g)), 1e-300)
         worst = max(worst, float(d))
-    out = {'freqrespMaxRelDiff': worst}
+    out['freqrespMaxRelDiff'] = worst
     if model['kind'] == 'ss' and len(model['A']) <= 8:
         num, den = signal.ss2tf(
             numpy.array(model['A'], float),
@@ -866,7 +876,7 @@ def analyse(plant):
         c['case'] = case
         c['f'] = f
         res['sectors'].append(c)
-    res['selfCheck'] = freq_check(m, N, D)
+    res['selfCheck'] = freq_check(m, N, D, min_re_g)
     res['seconds'] = round(time.time() - t0, 3)
     print(f"{res['id']}: order {n}, {res['seconds']} s", file=sys.stderr, flush=True)
     return res
