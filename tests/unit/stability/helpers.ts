@@ -141,9 +141,11 @@ export function refLimitFromFactors(
 		const z = wn > 0 ? Math.max(1e-6, -p.re / wn) : 1;
 		for (let t = -6; t <= 6; t += 0.05) ws.push(wn * (1 + t * z));
 	}
+	// Repeated poles give repeated grid points: keep each once, so every bracket has width.
 	const pts = ws
 		.filter((w) => w >= 0)
 		.sort((a, b) => a - b)
+		.filter((w, i, all) => i === 0 || w > all[i - 1])
 		.map((w) => ({ w, v: f(w) }));
 	const local: number[] = [];
 	for (let i = 0; i < pts.length; i++) {
