@@ -27,6 +27,17 @@ if [ ! -x /usr/bin/chromium ]; then
 	fi
 fi
 
+# Debian's Python libraries for the exact reference run (tests/reference): sympy, mpmath, scipy, and gmpy2,
+# which sympy uses for faster big-number arithmetic (same answers). Debian's /usr/bin/python3, never pip.
+if ! /usr/bin/python3 -c 'import sympy, mpmath, scipy, gmpy2' 2>/dev/null; then
+	if [ "$(id -u)" = 0 ]; then
+		say "installing Debian's python3-sympy, python3-mpmath, python3-scipy, python3-gmpy2 for the reference run"
+		DEBIAN_FRONTEND=noninteractive apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq python3 python3-sympy python3-mpmath python3-scipy python3-gmpy2 >/dev/null
+	else
+		say "python3-sympy, python3-mpmath, python3-scipy or python3-gmpy2 is missing and this is not root: install Debian's packages (the reference test fails without the first three)"
+	fi
+fi
+
 export PG_NAME="pg-test-$SLOT" PG_PORT=$((54339 + SLOT * 10)) PG_DB=loopwarden_test
 export PG_EXTRA_OPTS="-c fsync=off -c synchronous_commit=off -c full_page_writes=off"
 export PORT=$((4174 + SLOT * 10)) HOST=127.0.0.1

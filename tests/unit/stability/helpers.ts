@@ -95,3 +95,82 @@ export function controllableForm(num: number[], den: number[]) {
 	const C = [new Array(n).fill(0).map((_, j) => r[n - j])];
 	return { kind: 'ss' as const, A, B, C, D: [[d]] };
 }
+
+type Cx = { re: number; im: number };
+
+/** G(jw) = gain prod(jw - z) / prod(jw - p), evaluated factor by factor in doubles (no polynomial). */
+export function zpkJw(poles: Cx[], zeros: Cx[], gain: number, w: number): Cx {
+	let re = gain;
+	let im = 0;
+	const mul = (a: number, b: number) => {
+		const r = re * a - im * b;
+		im = re * b + im * a;
+		re = r;
+	};
+	for (const z of zeros) mul(-z.re, w - z.im);
+	for (const p of poles) {
+		const a = -p.re;
+		const b = w - p.im;
+		const d = a * a + b * b;
+		mul(a / d, -b / d);
+	}
+	return { re, im };
+}
+
+/**
+ * Independent reference for the largest sector with k1 = 0: min over w >= 0 of Re G(jw), G given by its
+ * factors. A log grid over the pole magnitudes, refined around every resonance (w_n (1 + t zeta)), then
+ * golden-section refinement of the best local minima; the minimiser is good to about sqrt(machine epsilon),
+ * the minimum to about machine epsilon (a minimum is flat). Not engine code: it evaluates G from its
+ * factors and never forms the frequency polynomial. Returns the limit k2* = -1/min (Infinity when the
+ * minimum is not negative) and the minimising frequency.
+ */
+export function refLimitFromFactors(
+	poles: Cx[],
+	zeros: Cx[],
+	gain: number
+): { limit: number; minReG: number; w: number } {
+	const f = (w: number) => zpkJw(poles, zeros, gain, w).re;
+	const mags = poles.map((p) => Math.hypot(p.re, p.im)).filter((m) => m > 0);
+	const lo = Math.min(...mags) / 1e3;
+	const hi = Math.max(...mags) * 1e3;
+	const ws: number[] = [0];
+	for (let i = 0; i <= 3000; i++) ws.push(lo * (hi / lo) ** (i / 3000));
+	for (const p of poles) {
+		const wn = Math.hypot(p.re, p.im);
+		const z = wn > 0 ? Math.max(1e-6, -p.re / wn) : 1;
+		for (let t = -6; t <= 6; t += 0.05) ws.push(wn * (1 + t * z));
+	}
+	// Repeated poles give repeated grid points: keep each once, so every bracket has width.
+	const pts = ws
+		.filter((w) => w >= 0)
+		.sort((a, b) => a - b)
+		.filter((w, i, all) => i === 0 || w > all[i - 1])
+		.map((w) => ({ w, v: f(w) }));
+	const local: number[] = [];
+	for (let i = 0; i < pts.length; i++) {
+		const l = i > 0 ? pts[i - 1].v : Infinity;
+		const r = i + 1 < pts.length ? pts[i + 1].v : Infinity;
+		if (pts[i].v <= l && pts[i].v <= r) local.push(i);
+	}
+	local.sort((a, b) => pts[a].v - pts[b].v);
+	let best = { w: pts[local[0]].w, v: pts[local[0]].v };
+	const phi = (Math.sqrt(5) - 1) / 2;
+	for (const i of local.slice(0, 6)) {
+		let a = pts[Math.max(0, i - 1)].w;
+		let b = pts[Math.min(pts.length - 1, i + 1)].w;
+		for (let it = 0; it < 200 && b - a > 1e-15 * b; it++) {
+			const c = b - phi * (b - a);
+			const d = a + phi * (b - a);
+			if (f(c) < f(d)) b = d;
+			else a = c;
+		}
+		const w = (a + b) / 2;
+		const v = f(w);
+		if (v < best.v) best = { w, v };
+	}
+	// Re G tends to G(inf) as w grows: the infimum may be approached there.
+	const gInf = zeros.length === poles.length ? gain : 0;
+	if (gInf < best.v) best = { w: Infinity, v: gInf };
+	return { limit: best.v < 0 ? -1 / best.v : Infinity, minReG: best.v, w: best.w };
+}
