@@ -6,6 +6,7 @@
 // polynomial by a positive power of two never changes a sign.
 //
 // Conventions in this file: coefficient arrays are ASCENDING (index = power of s or x).
+import { tick } from './budget';
 
 export interface Dyadic {
 	m: bigint;
@@ -291,6 +292,7 @@ export function pseudoRemainder(a: readonly bigint[], b: readonly bigint[]): { r
 	const lb = b[db];
 	let steps = 0;
 	for (let k = r.length - 1; k >= db; k--) {
+		tick();
 		const t = r[k];
 		for (let i = 0; i <= k; i++) r[i] *= lb;
 		if (t !== 0n) for (let i = 0; i <= db; i++) r[k - db + i] -= t * b[i];
@@ -390,6 +392,7 @@ export function isHurwitzExact(pIn: readonly bigint[]): { hurwitz: boolean; fail
 	for (let i = n; i >= 0; i -= 2) r0.push(p[i]);
 	for (let i = n - 1; i >= 0; i -= 2) r1.push(p[i]);
 	for (let row = 1; row <= n; row++) {
+		tick();
 		if (r1.length === 0 || r1[0] <= 0n) return { hurwitz: false, failedRow: row };
 		if (row === n) break;
 		const next: bigint[] = [];
@@ -406,6 +409,7 @@ export function gcdPoly(a: readonly bigint[], b: readonly bigint[]): bigint[] {
 	let y = trimInt(primitive(b));
 	if (x.length < y.length) [x, y] = [y, x];
 	while (y.length > 0) {
+		tick();
 		if (y.length === 1) return [1n];
 		const { r } = pseudoRemainder(x, y);
 		x = y;

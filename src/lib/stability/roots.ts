@@ -6,6 +6,7 @@
 // turned into proofs only through `inclusionDisks` (Smith's theorem) below, or used for reporting.
 //
 // Coefficient arrays are ASCENDING.
+import { tick } from './budget';
 
 export interface C {
 	re: number;
@@ -154,6 +155,7 @@ export function polyRoots(aIn: readonly number[], maxIter = 500): C[] {
 	const z = initialGuesses(a);
 	const done = new Array(n).fill(false);
 	for (let it = 0; it < maxIter; it++) {
+		tick();
 		let active = 0;
 		for (let i = 0; i < n; i++) {
 			if (done[i]) continue;

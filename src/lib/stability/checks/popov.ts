@@ -21,11 +21,13 @@ import {
 	oddMultiplicityPositiveRoots,
 	scaleD
 } from '../exact';
+import { type EngineOptions, tick, withBudget } from '../budget';
 import { certifiedHurwitz, certifiedPositiveOnHalfLine } from '../certify';
-import { addF, toFloatCommon } from '../fpoly';
+import { evalJw, toFloatCommon } from '../fpoly';
 import type { Plant } from '../model';
-import { minRatioOnHalfLine } from '../roots';
+import type { C } from '../roots';
 import { type CheckResult, enc } from '../types';
+import { budgetResult } from './circle-check';
 
 const fmt = (x: number) => (Number.isFinite(x) ? Number(x.toPrecision(6)).toString() : String(x));
 
@@ -33,25 +35,111 @@ interface PopovPolys {
 	M: DPoly;
 	R: DPoly;
 	xJ: DPoly;
-	Mf: number[];
-	Rf: number[];
-	xJf: number[];
+	/** Sample frequencies (scaled w) with Re G and w Im G there, for g(q) (see gOf). */
+	ws: number[];
+	reG: number[];
+	wImG: number[];
+	G: (w: number) => { re: number; im: number };
+	relDeg: number;
+	lcRatio: number;
 }
 
-function popovPolys(plant: Plant): PopovPolys {
+function popovPolys(plant: Plant, roots: readonly C[]): PopovPolys {
 	const M = evenRealPart(plant.Ds, plant.Ds);
 	const R = evenRealPart(plant.Ns, plant.Ds);
 	const J = oddImagPart(plant.Ns, plant.Ds);
 	const xJ: DPoly = { c: [0n, ...J.c], e: J.e };
-	const [Mf, Rf, xJf] = toFloatCommon([M, R, xJ]);
-	return { M, R, xJ, Mf, Rf, xJf };
+	// G(jw) in complex floating point from N and D (far better conditioned near lightly damped modes than
+	// the squared polynomials M, R, J in x), sampled on a log sweep plus the dips of D's roots.
+	const [Nf, Df] = toFloatCommon([plant.Ns, plant.Ds]);
+	const G = (w: number) => {
+		const a = evalJw(Nf, w);
+		const b = evalJw(Df, w);
+		const d = b.re * b.re + b.im * b.im;
+		return { re: (a.re * b.re + a.im * b.im) / d, im: (a.im * b.re - a.re * b.im) / d };
+	};
+	let lo = Infinity;
+	let hi = 0;
+	for (const r of roots) {
+		const m = Math.hypot(r.re, r.im);
+		if (m > 0) {
+			lo = Math.min(lo, m);
+			hi = Math.max(hi, m);
+		}
+	}
+	if (!(hi > 0)) [lo, hi] = [1, 1];
+	lo *= 1e-2;
+	hi *= 1e2;
+	const ws: number[] = [];
+	for (let i = 0; i <= 160; i++) ws.push(lo * (hi / lo) ** (i / 160));
+	for (const q of roots) {
+		if (!(q.im > 0)) continue;
+		const h = Math.max(Math.abs(q.re), 1e-300);
+		for (const k of [-4, -2, -1, -0.5, 0, 0.5, 1, 2, 4]) if (q.im + k * h > 0) ws.push(q.im + k * h);
+	}
+	const sorted = [...new Set(ws)].sort((a, b) => a - b);
+	const reG: number[] = [];
+	const wImG: number[] = [];
+	for (const w of sorted) {
+		const g = G(w);
+		reG.push(g.re);
+		wImG.push(w * g.im);
+	}
+	const relDeg = Df.length - Nf.length;
+	const lcRatio = Nf.length ? Nf[Nf.length - 1] / Df[Df.length - 1] : 0;
+	return { M, R, xJ, ws: sorted, reG, wImG, G, relDeg, lcRatio };
 }
 
-/** g(q) in scaled units and its minimiser x. */
+/**
+ * g(q) = min over w of Re[(1 + j w q) G(jw)] = Re G - q w Im G (scaled units) and its minimiser x = w^2:
+ * the local minima of the samples, refined by golden section between their neighbours (Kiefer 1953).
+ * Numerical: it chooses q and the candidate witnesses; the verdicts are decided exactly.
+ */
 function gOf(pp: PopovPolys, q: number): { value: number; x: number | null } {
-	const u = addF(pp.Rf, pp.xJf, -q);
-	const m = minRatioOnHalfLine(u, pp.Mf);
-	return { value: m.value, x: m.x };
+	const f = (w: number) => {
+		const g = pp.G(w);
+		return g.re - q * w * g.im;
+	};
+	const v = pp.ws.map((_, i) => pp.reG[i] - q * pp.wImG[i]);
+	const g0 = pp.G(0).re;
+	let best = { value: g0, x: 0 as number | null };
+	const locals: number[] = [];
+	for (let i = 0; i < v.length; i++)
+		if (v[i] <= (i > 0 ? v[i - 1] : Infinity) && v[i] <= (i + 1 < v.length ? v[i + 1] : Infinity)) locals.push(i);
+	locals.sort((i, j) => v[i] - v[j]);
+	const phi = (Math.sqrt(5) - 1) / 2;
+	for (const i of locals.slice(0, 3)) {
+		tick();
+		let a = i > 0 ? pp.ws[i - 1] : pp.ws[i] / 2;
+		let b = i + 1 < pp.ws.length ? pp.ws[i + 1] : pp.ws[i] * 2;
+		let c = b - phi * (b - a);
+		let d = a + phi * (b - a);
+		let fc = f(c);
+		let fd = f(d);
+		for (let it = 0; it < 120 && b - a > 1e-12 * b; it++) {
+			if (fc < fd) {
+				b = d;
+				d = c;
+				fd = fc;
+				c = b - phi * (b - a);
+				fc = f(c);
+			} else {
+				a = c;
+				c = d;
+				fc = fd;
+				d = a + phi * (b - a);
+				fd = f(d);
+			}
+		}
+		const w = (a + b) / 2;
+		const fv = f(w);
+		if (fv < best.value) best = { value: fv, x: w * w };
+	}
+	// The limit as w -> infinity: for relative degree 1, G ~ (lc N / lc D) / (jw), so the value tends to
+	// q lc N / lc D; for higher relative degree it tends to 0.
+	const lim = pp.relDeg === 1 ? q * pp.lcRatio : 0;
+	if (lim < best.value) best = { value: lim, x: null };
+	return best;
 }
 
 function maximiseG(pp: PopovPolys): { q: number; g: number; x: number | null } {
@@ -209,7 +297,7 @@ export function popovCore(plant: Plant): PopovCore {
 			thresholdCertified: null,
 			argminX: null
 		};
-	const pp = popovPolys(plant);
+	const pp = popovPolys(plant, hw.roots);
 	const best = maximiseG(pp);
 	const threshold = best.g >= 0 ? Infinity : -1 / best.g;
 	// Certify a threshold with q*: largest of a few values just below the estimate that passes exactly.
@@ -243,11 +331,22 @@ export function popovCore(plant: Plant): PopovCore {
 	};
 }
 
-export function runPopov(plant: Plant, k: number): CheckResult {
+const POPOV_ASSUMPTIONS =
+	'Only for time-invariant (memoryless) nonlinearities in the sector; the plant must be Hurwitz and strictly proper with a minimal realisation; sufficient, not necessary.';
+
+/** The Popov check under its time budget (budget.ts). */
+export function runPopov(plant: Plant, k: number, opts: EngineOptions = {}): CheckResult {
+	return withBudget(
+		opts.budgetSeconds,
+		() => popovResult(plant, k),
+		(e) => budgetResult('popov', e.message, POPOV_ASSUMPTIONS, { k })
+	);
+}
+
+function popovResult(plant: Plant, k: number): CheckResult {
 	const core = popovCore(plant);
 	const w0 = plant.w0;
-	const assumptions =
-		'Only for time-invariant (memoryless) nonlinearities in the sector; the plant must be Hurwitz and strictly proper with a minimal realisation; sufficient, not necessary.';
+	const assumptions = POPOV_ASSUMPTIONS;
 	const base = { type: 'popov' as const, assumptions };
 	if (!core.applicable)
 		return {
