@@ -51,7 +51,19 @@ export interface HurwitzResult {
 }
 
 /** Is the exact polynomial Hurwitz? Filter: all inclusion disks in the open left half-plane. */
+const hurwitzCache = new WeakMap<DPoly, HurwitzResult>();
+
 export function certifiedHurwitz(p: DPoly, forceExact = false): HurwitzResult {
+	// Polynomials are never mutated, so a decision is kept per polynomial object (the plant's denominator is
+	// asked about by several checks).
+	const hit = forceExact ? undefined : hurwitzCache.get(p);
+	if (hit) return hit;
+	const r = hurwitzOf(p, forceExact);
+	if (!forceExact) hurwitzCache.set(p, r);
+	return r;
+}
+
+function hurwitzOf(p: DPoly, forceExact: boolean): HurwitzResult {
 	const c = p.c;
 	const n = c.length - 1;
 	if (n <= 0) return { hurwitz: n === 0, path: 'exact', roots: [], maxRealPart: null };

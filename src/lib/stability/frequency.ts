@@ -66,6 +66,21 @@ function hornerV(c: readonly bigint[], ce: number, x: Dyadic): { v: Dyadic; d: D
 	return { v, d };
 }
 
+/** Exact value of sum c_i 2^ce x^i at a dyadic x (Horner). */
+function hornerOnly(c: readonly bigint[], ce: number, x: Dyadic): Dyadic {
+	let v: Dyadic = { m: 0n, e: 0 };
+	for (let i = c.length - 1; i >= 0; i--) v = addV(mulV(v, x), { m: c[i], e: ce });
+	return v;
+}
+
+/** Complex Horner p(jw) with Higham's running bound gamma_(4n) sum |p_k| w^k on its rounding error. */
+function evalJwBounded(p: readonly number[], w: number): { re: number; im: number; err: number } {
+	const { re, im } = evalJw(p, w);
+	let s = 0;
+	for (let k = p.length - 1; k >= 0; k--) s = s * w + Math.abs(p[k]);
+	return { re, im, err: 8 * (p.length + 1) * 2 ** -53 * s };
+}
+
 /** Even and odd parts: p(jw) = pe(x) + j w po(x), x = w^2 (exact integer coefficients, common 2^e). */
 export function evenOddParts(p: DPoly): { e: bigint[]; o: bigint[]; x: number } {
 	const e: bigint[] = [];
@@ -100,8 +115,10 @@ export interface CircleFamily {
 	min?: FrequencyMinimum;
 	/** Exact values of r's numerator and denominator, and of the sign of S, at dyadic x. */
 	exactR(x: number): { B: Dyadic; M: Dyadic; S: number };
-	/** r(w) in complex floating point. */
+	/** r(w) = Re[N(jw)/Q(jw)]: complex floating point where its error bound allows, else exact. */
 	rAtW(w: number): number;
+	/** N(jw)/Q(jw), the same way (for k1 = 0 this is G(jw)). */
+	gAtW(w: number): { re: number; im: number };
 }
 
 const families = new WeakMap<Plant, Map<number, CircleFamily>>();
@@ -139,12 +156,34 @@ export function circleFamily(plant: Plant, k1: number): CircleFamily {
 		const S = signV(addV(mulV(dB, M), negV(mulV(B, dM))));
 		return { B, M, S };
 	};
-	const rAtW = (w: number) => {
-		const a = evalJw(Nf, w);
-		const b = evalJw(Qf, w);
-		return (a.re * b.re + a.im * b.im) / (b.re * b.re + b.im * b.im);
+	// N(jw)/Q(jw) exactly at x = w^2: N Q* = (ne qe + x no qo) + j w (no qe - ne qo), |Q|^2 = qe^2 + x qo^2.
+	const exactG = (w: number) => {
+		const x = dyadicOf(w * w);
+		const ne = hornerOnly(n.e, n.x, x);
+		const no = hornerOnly(n.o, n.x, x);
+		const qe = hornerOnly(q.e, q.x, x);
+		const qo = hornerOnly(q.o, q.x, x);
+		const B = addV(mulV(ne, qe), mulV(x, mulV(no, qo)));
+		const I = addV(mulV(no, qe), negV(mulV(ne, qo)));
+		const M = addV(mulV(qe, qe), mulV(x, mulV(qo, qo)));
+		return { re: ratioToNumber(B, M), im: w * ratioToNumber(I, M) };
 	};
-	const fam: CircleFamily = { k1, Q, hurwitz, Nf, Qf, exactR, rAtW };
+	// Floating evaluation where it is accurate to 1e-9 (by its running error bound), else exact: near a
+	// cluster of lightly damped modes |Q(jw)| is far below the size of its terms and the float is noise.
+	const gAtW = (w: number) => {
+		const a = evalJwBounded(Nf, w);
+		const b = evalJwBounded(Qf, w);
+		const qa = Math.hypot(b.re, b.im);
+		const na = Math.hypot(a.re, a.im);
+		if (b.err > 1e-9 * qa || (na > 0 && a.err > 1e-9 * na) || (na === 0 && a.err > 0)) {
+			tick();
+			return exactG(w);
+		}
+		const d = b.re * b.re + b.im * b.im;
+		return { re: (a.re * b.re + a.im * b.im) / d, im: (a.im * b.re - a.re * b.im) / d };
+	};
+	const rAtW = (w: number) => gAtW(w).re;
+	const fam: CircleFamily = { k1, Q, hurwitz, Nf, Qf, exactR, rAtW, gAtW };
 	m.set(k1, fam);
 	return fam;
 }
@@ -254,11 +293,38 @@ export function familyMinimum(fam: CircleFamily): FrequencyMinimum {
 		}
 		ws.push(Math.sqrt(Math.max(0, q.im * q.im - q.re * q.re)));
 	}
-	const pts = [...new Set(ws.filter((w) => w > 0 && Number.isFinite(w)))].sort((a, b) => a - b);
-	const vals = pts.map((w) => {
-		tick();
-		return fam.rAtW(w);
-	});
+	let pts = [...new Set(ws.filter((w) => w > 0 && Number.isFinite(w)))].sort((a, b) => a - b);
+	let vals = pts.map((w) => fam.rAtW(w));
+	// Where neighbouring samples differ by much of the total range, a narrow dip may sit between them (the
+	// roots of Q, and so the resonances above, are inaccurate for clustered modes): halve those intervals
+	// until no step is large, up to 4000 samples.
+	for (let pass = 0; pass < 24 && pts.length < 4000; pass++) {
+		let mn = Infinity;
+		let mx = -Infinity;
+		for (const v of vals)
+			if (Number.isFinite(v)) {
+				mn = Math.min(mn, v);
+				mx = Math.max(mx, v);
+			}
+		const tol = 0.02 * (mx - mn);
+		const np: number[] = [];
+		const nv: number[] = [];
+		let added = 0;
+		for (let i = 0; i < pts.length; i++) {
+			np.push(pts[i]);
+			nv.push(vals[i]);
+			if (i + 1 < pts.length && !(Math.abs(vals[i + 1] - vals[i]) <= tol) && pts[i + 1] - pts[i] > 1e-9 * pts[i]) {
+				tick();
+				const w = (pts[i] + pts[i + 1]) / 2;
+				np.push(w);
+				nv.push(fam.rAtW(w));
+				added++;
+			}
+		}
+		pts = np;
+		vals = nv;
+		if (added === 0) break;
+	}
 	let best: FrequencyMinimum = { r: fam.exactR(0).M.m === 0n ? Infinity : exactRValue(fam, 0), x: 0 };
 	// Local minima of the samples, the lowest first; refine the 8 lowest.
 	const locals: number[] = [];

@@ -29,7 +29,8 @@ export interface MaxSectorCore {
 }
 
 export function maxSectorCore(plant: Plant, k1: number): MaxSectorCore {
-	if (!hurwitzAtGain(plant, k1))
+	const fam = circleFamily(plant, k1);
+	if (fam.Q.c.length - 1 < plant.order || !fam.hurwitz.hurwitz || fam.hurwitz.undecided)
 		return {
 			feasible: false,
 			threshold: null,
@@ -49,7 +50,6 @@ export function maxSectorCore(plant: Plant, k1: number): MaxSectorCore {
 	// minimum of r is the witness) and one just below it where the exact test passes (root isolation). A pass
 	// that fails instead means the minimum found was not the global one: circleCore then refines the minimum
 	// where the isolation found the violation, and the bracket is formed again.
-	const fam = circleFamily(plant, k1);
 	let undecidedReason: string | undefined;
 	for (let round = 0; round < 6; round++) {
 		const mn = familyMinimum(fam);

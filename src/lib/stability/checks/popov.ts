@@ -22,8 +22,9 @@ import {
 	scaleD
 } from '../exact';
 import { type EngineOptions, tick, withBudget } from '../budget';
-import { certifiedHurwitz, certifiedPositiveOnHalfLine } from '../certify';
-import { evalJw, toFloatCommon } from '../fpoly';
+import { certifiedPositiveOnHalfLine } from '../certify';
+import { toFloatCommon } from '../fpoly';
+import { circleFamily } from '../frequency';
 import type { Plant } from '../model';
 import type { C } from '../roots';
 import { type CheckResult, enc } from '../types';
@@ -49,15 +50,11 @@ function popovPolys(plant: Plant, roots: readonly C[]): PopovPolys {
 	const R = evenRealPart(plant.Ns, plant.Ds);
 	const J = oddImagPart(plant.Ns, plant.Ds);
 	const xJ: DPoly = { c: [0n, ...J.c], e: J.e };
-	// G(jw) in complex floating point from N and D (far better conditioned near lightly damped modes than
-	// the squared polynomials M, R, J in x), sampled on a log sweep plus the dips of D's roots.
+	// G(jw) from N and D in complex arithmetic (far better conditioned near lightly damped modes than the
+	// squared polynomials M, R, J in x; exact where its error bound is too large: frequency.ts), sampled on a
+	// log sweep plus the dips of D's roots.
 	const [Nf, Df] = toFloatCommon([plant.Ns, plant.Ds]);
-	const G = (w: number) => {
-		const a = evalJw(Nf, w);
-		const b = evalJw(Df, w);
-		const d = b.re * b.re + b.im * b.im;
-		return { re: (a.re * b.re + a.im * b.im) / d, im: (a.im * b.re - a.re * b.im) / d };
-	};
+	const G = circleFamily(plant, 0).gAtW;
 	let lo = Infinity;
 	let hi = 0;
 	for (const r of roots) {
@@ -77,13 +74,46 @@ function popovPolys(plant: Plant, roots: readonly C[]): PopovPolys {
 		const h = Math.max(Math.abs(q.re), 1e-300);
 		for (const k of [-4, -2, -1, -0.5, 0, 0.5, 1, 2, 4]) if (q.im + k * h > 0) ws.push(q.im + k * h);
 	}
-	const sorted = [...new Set(ws)].sort((a, b) => a - b);
-	const reG: number[] = [];
-	const wImG: number[] = [];
+	let sorted = [...new Set(ws)].sort((a, b) => a - b);
+	let reG: number[] = [];
+	let wImG: number[] = [];
 	for (const w of sorted) {
 		const g = G(w);
 		reG.push(g.re);
 		wImG.push(w * g.im);
+	}
+	// Halve the intervals where Re G or w Im G jumps by much of its range (a narrow dip may sit between the
+	// samples), up to 3000 samples: the search over q then runs on the samples alone.
+	for (let pass = 0; pass < 24 && sorted.length < 3000; pass++) {
+		const span = (a: number[]) => Math.max(...a) - Math.min(...a);
+		const t1 = 0.02 * span(reG);
+		const t2 = 0.02 * span(wImG);
+		const ns: number[] = [];
+		const nr: number[] = [];
+		const ni: number[] = [];
+		let added = 0;
+		for (let i = 0; i < sorted.length; i++) {
+			ns.push(sorted[i]);
+			nr.push(reG[i]);
+			ni.push(wImG[i]);
+			if (
+				i + 1 < sorted.length &&
+				sorted[i + 1] - sorted[i] > 1e-9 * sorted[i] &&
+				(!(Math.abs(reG[i + 1] - reG[i]) <= t1) || !(Math.abs(wImG[i + 1] - wImG[i]) <= t2))
+			) {
+				tick();
+				const w = (sorted[i] + sorted[i + 1]) / 2;
+				const g = G(w);
+				ns.push(w);
+				nr.push(g.re);
+				ni.push(w * g.im);
+				added++;
+			}
+		}
+		sorted = ns;
+		reG = nr;
+		wImG = ni;
+		if (added === 0) break;
 	}
 	const relDeg = Df.length - Nf.length;
 	const lcRatio = Nf.length ? Nf[Nf.length - 1] / Df[Df.length - 1] : 0;
@@ -95,7 +125,7 @@ function popovPolys(plant: Plant, roots: readonly C[]): PopovPolys {
  * the local minima of the samples, refined by golden section between their neighbours (Kiefer 1953).
  * Numerical: it chooses q and the candidate witnesses; the verdicts are decided exactly.
  */
-function gOf(pp: PopovPolys, q: number): { value: number; x: number | null } {
+function gOf(pp: PopovPolys, q: number, refine = true): { value: number; x: number | null } {
 	const f = (w: number) => {
 		const g = pp.G(w);
 		return g.re - q * w * g.im;
@@ -108,7 +138,8 @@ function gOf(pp: PopovPolys, q: number): { value: number; x: number | null } {
 		if (v[i] <= (i > 0 ? v[i - 1] : Infinity) && v[i] <= (i + 1 < v.length ? v[i + 1] : Infinity)) locals.push(i);
 	locals.sort((i, j) => v[i] - v[j]);
 	const phi = (Math.sqrt(5) - 1) / 2;
-	for (const i of locals.slice(0, 3)) {
+	if (!refine && locals.length) best = v[locals[0]] < best.value ? { value: v[locals[0]], x: pp.ws[locals[0]] ** 2 } : best;
+	for (const i of refine ? locals.slice(0, 2) : []) {
 		tick();
 		let a = i > 0 ? pp.ws[i - 1] : pp.ws[i] / 2;
 		let b = i + 1 < pp.ws.length ? pp.ws[i + 1] : pp.ws[i] * 2;
@@ -116,7 +147,7 @@ function gOf(pp: PopovPolys, q: number): { value: number; x: number | null } {
 		let d = a + phi * (b - a);
 		let fc = f(c);
 		let fd = f(d);
-		for (let it = 0; it < 120 && b - a > 1e-12 * b; it++) {
+		for (let it = 0; it < 80 && b - a > 1e-9 * b; it++) {
 			if (fc < fd) {
 				b = d;
 				d = c;
@@ -143,13 +174,13 @@ function gOf(pp: PopovPolys, q: number): { value: number; x: number | null } {
 }
 
 function maximiseG(pp: PopovPolys): { q: number; g: number; x: number | null } {
-	const g0 = gOf(pp, 0);
+	const g0 = gOf(pp, 0, false);
 	let best = { q: 0, g: g0.value, x: g0.x };
 	const grid: number[] = [];
 	for (let e = -8; e <= 8; e += 0.5) grid.push(10 ** e);
 	let bi = -1;
 	for (let i = 0; i < grid.length; i++) {
-		const r = gOf(pp, grid[i]);
+		const r = gOf(pp, grid[i], false);
 		if (r.value > best.g) {
 			best = { q: grid[i], g: r.value, x: r.x };
 			bi = i;
@@ -161,27 +192,28 @@ function maximiseG(pp: PopovPolys): { q: number; g: number; x: number | null } {
 	const phi = (Math.sqrt(5) - 1) / 2;
 	let c = b - phi * (b - a);
 	let d = a + phi * (b - a);
-	let gc = gOf(pp, c).value;
-	let gd = gOf(pp, d).value;
-	for (let it = 0; it < 80 && b - a > 1e-13 * Math.max(1, b); it++) {
+	let gc = gOf(pp, c, false).value;
+	let gd = gOf(pp, d, false).value;
+	for (let it = 0; it < 60 && b - a > 1e-9 * Math.max(1e-300, b); it++) {
 		if (gc > gd) {
 			b = d;
 			d = c;
 			gd = gc;
 			c = b - phi * (b - a);
-			gc = gOf(pp, c).value;
+			gc = gOf(pp, c, false).value;
 		} else {
 			a = c;
 			c = d;
 			gc = gd;
 			d = a + phi * (b - a);
-			gd = gOf(pp, d).value;
+			gd = gOf(pp, d, false).value;
 		}
 	}
 	const qm = (a + b) / 2;
-	const r = gOf(pp, qm);
-	if (r.value > best.g) best = { q: qm, g: r.value, x: r.x };
-	return { q: best.q, g: best.g, x: best.x };
+	const qs = gOf(pp, qm, false).value > best.g ? qm : best.q;
+	// The value at the chosen multiplier, refined between the samples (the samples alone overestimate g).
+	const r = gOf(pp, qs);
+	return { q: qs, g: r.value, x: r.x };
 }
 
 /** E_q(x) = M + k R - k q xJ, exact for dyadic k and q. */
@@ -275,7 +307,7 @@ export function popovCore(plant: Plant): PopovCore {
 			thresholdCertified: null,
 			argminX: null
 		};
-	const hw = certifiedHurwitz(plant.Ds);
+	const hw = circleFamily(plant, 0).hurwitz;
 	if (hw.undecided)
 		return {
 			applicable: false,
