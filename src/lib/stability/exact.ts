@@ -6,7 +6,7 @@
 // polynomial by a positive power of two never changes a sign.
 //
 // Conventions in this file: coefficient arrays are ASCENDING (index = power of s or x).
-import { tick } from './budget';
+import { tickNow } from './budget';
 
 export interface Dyadic {
 	m: bigint;
@@ -292,7 +292,7 @@ export function pseudoRemainder(a: readonly bigint[], b: readonly bigint[]): { r
 	const lb = b[db];
 	let steps = 0;
 	for (let k = r.length - 1; k >= db; k--) {
-		tick();
+		tickNow();
 		const t = r[k];
 		for (let i = 0; i <= k; i++) r[i] *= lb;
 		if (t !== 0n) for (let i = 0; i <= db; i++) r[k - db + i] -= t * b[i];
@@ -397,7 +397,7 @@ export function isHurwitzExact(pIn: readonly bigint[]): { hurwitz: boolean; fail
 	// exact, the row falls back to division by its positive content.
 	let divisor = 1n;
 	for (let row = 1; row <= n; row++) {
-		tick();
+		tickNow();
 		if (r1.length === 0 || r1[0] <= 0n) return { hurwitz: false, failedRow: row };
 		if (row === n) break;
 		let next: bigint[] = [];
@@ -421,7 +421,7 @@ export function gcdPoly(a: readonly bigint[], b: readonly bigint[]): bigint[] {
 	let y = trimInt(primitive(b));
 	if (x.length < y.length) [x, y] = [y, x];
 	while (y.length > 0) {
-		tick();
+		tickNow();
 		if (y.length === 1) return [1n];
 		const { r } = pseudoRemainder(x, y);
 		x = y;

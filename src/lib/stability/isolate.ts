@@ -5,7 +5,7 @@
 // variations of (y + 1)^n q(1/(y + 1)) bounds the number of roots of q in (0, 1) and has its parity;
 // 0 variations prove no root, 1 proves exactly one (Vincent's theorem; Alesina & Galuzzi 1998 for the
 // termination of the bisection on square-free polynomials). Coefficients are ASCENDING.
-import { tick } from './budget';
+import { tick, tickNow } from './budget';
 import { type Dyadic, derivInt, divExact, gcdPoly, log2Abs, signAt, signVariations } from './exact';
 
 export type Isolation =
@@ -109,7 +109,7 @@ function isolate(p: bigint[]): Isolation {
 	while (stack.length) {
 		const node = stack.pop()!;
 		nodes++;
-		tick();
+		tickNow();
 		const { q, k, a } = node;
 		if (signVariations(q) === 0) continue;
 		const v = variationsOnUnit(q);

@@ -11,7 +11,7 @@ import type { Plant } from '../model';
 import { type CheckResult, enc } from '../types';
 import { circleCore } from './circle';
 import { budgetResult } from './circle-check';
-import { type GainInterval, hurwitzAtGain, intervalContaining, linearGainIntervals } from './gain-range';
+import { type GainInterval, intervalContaining, linearGainIntervals } from './gain-range';
 
 const fmt = (x: number) => (Number.isFinite(x) ? Number(x.toPrecision(6)).toString() : String(x));
 

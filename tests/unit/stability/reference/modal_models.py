@@ -182,8 +182,46 @@ def main():
     v, w = min_re_g(blocks, bs, cs, modes)
     out["models"]["cluster40"] = {"model": assemble(blocks, bs, cs), "minReG": mp.nstr(v, 25), "criticalFrequency": mp.nstr(w, 25), "limit": mp.nstr(-1 / v, 25)}
     out["defect5"] = defect5_exact()
+    out["fourfold"] = fourfold()
     json.dump(out, sys.stdout, indent=1)
 
 
+def fourfold():
+    """The 4-fold lightly damped mode of property.test.ts: -0.02 +/- 0.999799979995999j four times and
+    -0.11078105537246409 +/- 5.5048503444431915j, unit DC gain; G from its factors at 40 digits."""
+    ps = [(-0.02, 0.999799979995999)] * 4 + [(-0.11078105537246409, 5.5048503444431915)]
+    dc = mp.mpf(1)
+    for a, b in ps:
+        dc *= mp.mpf(a) ** 2 + mp.mpf(b) ** 2
+
+    def g(w):
+        s = mp.mpc(0, w)
+        v = dc
+        for a, b in ps:
+            v /= (s - mp.mpc(a, b)) * (s - mp.mpc(a, -b))
+        return mp.re(v)
+
+    best = None
+    for i in range(4001):
+        w = 0.9 + 0.2 * i / 4000
+        v = g(w)
+        if best is None or v < best[0]:
+            best = (v, w)
+    a, b = mp.mpf(best[1]) - mp.mpf(0.2) / 4000, mp.mpf(best[1]) + mp.mpf(0.2) / 4000
+    phi = (mp.sqrt(5) - 1) / 2
+    for _ in range(80):
+        c, d = b - phi * (b - a), a + phi * (b - a)
+        if g(c) < g(d):
+            b = d
+        else:
+            a = c
+    wm = mp.findroot(lambda w: mp.diff(g, w), (a + b) / 2, verify=False)
+    v = g(wm)
+    return {"minReG": mp.nstr(v, 25), "criticalFrequency": mp.nstr(wm, 25), "limit": mp.nstr(-1 / v, 25)}
+
+
 if __name__ == "__main__":
-    main()
+    if len(sys.argv) > 1 and sys.argv[1] == "fourfold":
+        json.dump(fourfold(), sys.stdout, indent=1)
+    else:
+        main()
