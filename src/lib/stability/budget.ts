@@ -48,7 +48,8 @@ export function withBudget<T>(
 	onExceeded: (e: BudgetExceeded) => T
 ): T {
 	if (deadline !== Infinity) return fn();
-	const s = seconds !== undefined && seconds > 0 && Number.isFinite(seconds) ? seconds : DEFAULT_BUDGET_SECONDS;
+	const s =
+		seconds !== undefined && seconds > 0 && Number.isFinite(seconds) ? seconds : DEFAULT_BUDGET_SECONDS;
 	deadline = now() + s * 1000;
 	activeSeconds = s;
 	try {

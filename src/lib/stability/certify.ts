@@ -11,7 +11,7 @@ import {
 	dyadicToNumber,
 	dyadicOf,
 	isHurwitzExact,
-	signAt,
+	signAt
 } from './exact';
 import { tick } from './budget';
 import { firstPositiveRoot } from './isolate';
@@ -176,7 +176,8 @@ export function certifiedPositiveOnHalfLine(
 	}
 	const iso = firstPositiveRoot(c);
 	if (iso.kind === 'none') return { positive: true, path: 'exact', positiveRoots: 0 };
-	if (iso.kind === 'undecided') return { positive: false, path: 'exact', undecided: true, reason: iso.reason };
+	if (iso.kind === 'undecided')
+		return { positive: false, path: 'exact', undecided: true, reason: iso.reason };
 	const lo = dyadicToNumber(iso.lo.m, iso.lo.e);
 	const hi = dyadicToNumber(iso.hi.m, iso.hi.e);
 	const w = iso.nonPositiveAt ? dyadicToNumber(iso.nonPositiveAt.m, iso.nonPositiveAt.e) : undefined;

@@ -152,7 +152,10 @@ export function circleFamily(plant: Plant, k1: number): CircleFamily {
 			addV(mulV(no.v, qo.v), mulV(x, addV(mulV(no.d, qo.v), mulV(no.v, qo.d))))
 		);
 		const two: Dyadic = { m: 2n, e: 0 };
-		const dM = addV(addV(mulV(two, mulV(qe.v, qe.d)), mulV(qo.v, qo.v)), mulV(two, mulV(x, mulV(qo.v, qo.d))));
+		const dM = addV(
+			addV(mulV(two, mulV(qe.v, qe.d)), mulV(qo.v, qo.v)),
+			mulV(two, mulV(x, mulV(qo.v, qo.d)))
+		);
 		const S = signV(addV(mulV(dB, M), negV(mulV(B, dM))));
 		return { B, M, S };
 	};
@@ -313,7 +316,11 @@ export function familyMinimum(fam: CircleFamily): FrequencyMinimum {
 		for (let i = 0; i < pts.length; i++) {
 			np.push(pts[i]);
 			nv.push(vals[i]);
-			if (i + 1 < pts.length && !(Math.abs(vals[i + 1] - vals[i]) <= tol) && pts[i + 1] - pts[i] > 1e-9 * pts[i]) {
+			if (
+				i + 1 < pts.length &&
+				!(Math.abs(vals[i + 1] - vals[i]) <= tol) &&
+				pts[i + 1] - pts[i] > 1e-9 * pts[i]
+			) {
 				tick();
 				const w = (pts[i] + pts[i + 1]) / 2;
 				np.push(w);

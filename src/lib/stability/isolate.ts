@@ -90,7 +90,13 @@ export function firstPositiveRoot(pIn: readonly bigint[]): Isolation {
 	if (r2.kind === 'root') {
 		// A root of p; p keeps its sign where s changes sign only for odd multiplicity: check exactly.
 		const neg = [r2.lo, r2.hi].find((x) => signAt(p, x) < 0);
-		return { kind: 'root', lo: r2.lo, hi: r2.hi, ...(neg ? { nonPositiveAt: neg } : {}), nodes: r.nodes + r2.nodes };
+		return {
+			kind: 'root',
+			lo: r2.lo,
+			hi: r2.hi,
+			...(neg ? { nonPositiveAt: neg } : {}),
+			nodes: r.nodes + r2.nodes
+		};
 	}
 	return { ...r2, nodes: r.nodes + r2.nodes };
 }

@@ -94,7 +94,8 @@ export function circleCore(
 		};
 	if (!pos.positive) {
 		// The isolation found a violation the sweep had missed: refine the minimum there.
-		const at = pos.witness ?? (pos.rootInterval ? (pos.rootInterval[0] + pos.rootInterval[1]) / 2 : undefined);
+		const at =
+			pos.witness ?? (pos.rootInterval ? (pos.rootInterval[0] + pos.rootInterval[1]) / 2 : undefined);
 		if (at !== undefined && at > 0) mn = familyConsider(fam, at);
 		return {
 			pass: false,

@@ -95,7 +95,14 @@ export function maxSectorCore(plant: Plant, k1: number): MaxSectorCore {
 	}
 	const mn = familyMinimum(fam);
 	const est = mn.r < 0 ? k1 - 1 / mn.r : Infinity;
-	return bisect(k1, null, Number.isFinite(est) ? est * (1 + 1e-6) : 2 * Math.max(1, Math.abs(k1)), tryAt, est, mn.x);
+	return bisect(
+		k1,
+		null,
+		Number.isFinite(est) ? est * (1 + 1e-6) : 2 * Math.max(1, Math.abs(k1)),
+		tryAt,
+		est,
+		mn.x
+	);
 }
 
 /** Fallback: bisection on the exact test between k1 and a failing value (a bound stays a proved one). */

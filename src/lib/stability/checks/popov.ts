@@ -135,10 +135,37 @@ function gOf(pp: PopovPolys, q: number, refine = true): { value: number; x: numb
 	let best = { value: g0, x: 0 as number | null };
 	const locals: number[] = [];
 	for (let i = 0; i < v.length; i++)
-		if (v[i] <= (i > 0 ? v[i - 1] : Infinity) && v[i] <= (i + 1 < v.length ? v[i + 1] : Infinity)) locals.push(i);
+		if (v[i] <= (i > 0 ? v[i - 1] : Infinity) && v[i] <= (i + 1 < v.length ? v[i + 1] : Infinity))
+			locals.push(i);
 	locals.sort((i, j) => v[i] - v[j]);
 	const phi = (Math.sqrt(5) - 1) / 2;
-	if (!refine && locals.length) best = v[locals[0]] < best.value ? { value: v[locals[0]], x: pp.ws[locals[0]] ** 2 } : best;
+	if (!refine)
+		// Samples only (the search over q): the vertex of the parabola through each of the three lowest local
+		// minima and its neighbours, which is far closer to the true minimum than the sample itself.
+		for (const i of locals.slice(0, 3)) {
+			let val = v[i];
+			let w = pp.ws[i];
+			if (i > 0 && i + 1 < v.length) {
+				const [a, b, c] = [pp.ws[i - 1], pp.ws[i], pp.ws[i + 1]];
+				const [fa, fb, fc] = [v[i - 1], v[i], v[i + 1]];
+				const den = (b - a) * (fb - fc) - (b - c) * (fb - fa);
+				if (den !== 0) {
+					const t = b - (0.5 * ((b - a) ** 2 * (fb - fc) - (b - c) ** 2 * (fb - fa))) / den;
+					if (t > a && t < c) {
+						// value of the parabola at its vertex (Lagrange form)
+						const pv =
+							(fa * (t - b) * (t - c)) / ((a - b) * (a - c)) +
+							(fb * (t - a) * (t - c)) / ((b - a) * (b - c)) +
+							(fc * (t - a) * (t - b)) / ((c - a) * (c - b));
+						if (pv < val) {
+							val = pv;
+							w = t;
+						}
+					}
+				}
+			}
+			if (val < best.value) best = { value: val, x: w * w };
+		}
 	for (const i of refine ? locals.slice(0, 2) : []) {
 		tick();
 		let a = i > 0 ? pp.ws[i - 1] : pp.ws[i] / 2;
@@ -210,8 +237,21 @@ function maximiseG(pp: PopovPolys): { q: number; g: number; x: number | null } {
 		}
 	}
 	const qm = (a + b) / 2;
-	const qs = gOf(pp, qm, false).value > best.g ? qm : best.q;
-	// The value at the chosen multiplier, refined between the samples (the samples alone overestimate g).
+	let qs = gOf(pp, qm, false).value > best.g ? qm : best.q;
+	// A short golden-section search on the refined g (between the samples) around that multiplier: the
+	// samples alone misplace the maximum of g where it is a kink.
+	if (qs > 0) {
+		let a2 = qs * 0.98;
+		let b2 = qs * 1.02;
+		for (let it = 0; it < 25; it++) {
+			const c2 = b2 - phi * (b2 - a2);
+			const d2 = a2 + phi * (b2 - a2);
+			if (gOf(pp, c2).value > gOf(pp, d2).value) b2 = d2;
+			else a2 = c2;
+		}
+		const qr = (a2 + b2) / 2;
+		if (gOf(pp, qr).value > gOf(pp, qs).value) qs = qr;
+	}
 	const r = gOf(pp, qs);
 	return { q: qs, g: r.value, x: r.x };
 }
