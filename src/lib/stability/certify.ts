@@ -11,9 +11,10 @@ import {
 	dyadicToNumber,
 	dyadicOf,
 	isHurwitzExact,
-	signAt,
-	sturmPositiveRootCount
+	signAt
 } from './exact';
+import { tick } from './budget';
+import { firstPositiveRoot } from './isolate';
 import { type C, inclusionDisks, polyRoots, disksMeetNonnegativeReals, type Disk } from './roots';
 
 /** How a decision was reached: by the floating filter, or by the exact fallback. */
@@ -33,19 +34,11 @@ export function toFloatWithBounds(c: readonly bigint[]): { a: number[]; err: num
 }
 
 /**
- * Work limit for the exact fallbacks, in (degree x coefficient bits). Beyond it the exact Routh / Sturm
- * computation would take seconds to minutes in BigInt arithmetic, so the decision is reported as undecided
- * (the check then says "inconclusive" with the reason) instead of blocking the caller.
+ * Size (degree x coefficient bits) above which positive-real.ts reports its exact factor test as undecided.
+ * The circle, max-sector and Popov decisions have no size limit: they run under the check's time budget
+ * (budget.ts) and say so when it runs out.
  */
 export const EXACT_BUDGET = 8_000;
-/** The Routh array is far cheaper than a Sturm sequence (no polynomial remainders), so it gets more room. */
-export const ROUTH_BUDGET = 200_000;
-
-function exactSize(c: readonly bigint[]): number {
-	let bits = 0;
-	for (const v of c) bits = Math.max(bits, bitLength(v));
-	return bits * (c.length - 1);
-}
 
 export interface HurwitzResult {
 	/** True only when decided Hurwitz; see `undecided`. */
@@ -58,7 +51,19 @@ export interface HurwitzResult {
 }
 
 /** Is the exact polynomial Hurwitz? Filter: all inclusion disks in the open left half-plane. */
+const hurwitzCache = new WeakMap<DPoly, HurwitzResult>();
+
 export function certifiedHurwitz(p: DPoly, forceExact = false): HurwitzResult {
+	// Polynomials are never mutated, so a decision is kept per polynomial object (the plant's denominator is
+	// asked about by several checks).
+	const hit = forceExact ? undefined : hurwitzCache.get(p);
+	if (hit) return hit;
+	const r = hurwitzOf(p, forceExact);
+	if (!forceExact) hurwitzCache.set(p, r);
+	return r;
+}
+
+function hurwitzOf(p: DPoly, forceExact: boolean): HurwitzResult {
 	const c = p.c;
 	const n = c.length - 1;
 	if (n <= 0) return { hurwitz: n === 0, path: 'exact', roots: [], maxRealPart: null };
@@ -76,8 +81,6 @@ export function certifiedHurwitz(p: DPoly, forceExact = false): HurwitzResult {
 			if (someComponentInOpenRHP(disks)) return { hurwitz: false, path: 'filter', roots, maxRealPart: maxRe };
 		}
 	}
-	if (exactSize(c) > ROUTH_BUDGET && !forceExact)
-		return { hurwitz: false, undecided: true, path: 'exact', roots, maxRealPart: maxRe };
 	return { hurwitz: isHurwitzExact(c).hurwitz, path: 'exact', roots, maxRealPart: maxRe };
 }
 
@@ -105,20 +108,25 @@ function someComponentInOpenRHP(disks: Disk[]): boolean {
 }
 
 export interface PositivityResult {
-	/** Set when the exact fallback was beyond EXACT_BUDGET: `positive` is then false but not proved. */
+	/** Set when the exact isolation ran past its work limit: `positive` is then false but not proved. */
 	undecided?: boolean;
+	/** Why undecided (the work limit that was reached). */
+	reason?: string;
 	/** E(x) > 0 for every x >= 0. */
 	positive: boolean;
 	path: DecisionPath;
 	/** When not positive: a dyadic x >= 0 where E(x) <= 0 was shown exactly, if one was found. */
 	witness?: number;
-	/** Distinct roots in (0, inf) (exact path only). */
+	/** Distinct roots in (0, inf) (0 on a proved pass; at least 1 on an exact fail). */
 	positiveRoots?: number;
+	/** On an exact fail: a dyadic interval (lo, hi) holding a root of E in (0, inf), from the isolation. */
+	rootInterval?: [number, number];
 }
 
 /**
  * Is the exact polynomial E strictly positive on [0, inf)? E must not be identically zero.
- * Filter: E(0) > 0 and no inclusion disk meets [0, inf). Exact: E(0) > 0 and Sturm count zero.
+ * Filter: E(0) > 0 and no inclusion disk meets [0, inf). Exact: E(0) > 0 and no root in (0, inf) by
+ * Descartes / Collins-Akritas isolation (isolate.ts); a root found there comes with a point where E <= 0.
  * `hints` are x values (e.g. a numerical argmin) tried first as exact counter-examples.
  */
 export function certifiedPositiveOnHalfLine(
@@ -133,6 +141,7 @@ export function certifiedPositiveOnHalfLine(
 		// Negative at infinity: find some explicit witness by doubling.
 		let x = 1;
 		for (let k = 0; k < 4000; k++) {
+			tick();
 			if (signAt(c, dyadicOf(x)) <= 0) return { positive: false, path: 'exact', witness: x };
 			x *= 2;
 			if (!Number.isFinite(x)) break;
@@ -165,9 +174,20 @@ export function certifiedPositiveOnHalfLine(
 				return { positive: false, path: 'filter', witness: x };
 		}
 	}
-	if (!forceExact && exactSize(c) > EXACT_BUDGET) return { positive: false, path: 'exact', undecided: true };
-	const cnt = sturmPositiveRootCount(c);
-	return { positive: cnt === 0, path: 'exact', positiveRoots: cnt };
+	const iso = firstPositiveRoot(c);
+	if (iso.kind === 'none') return { positive: true, path: 'exact', positiveRoots: 0 };
+	if (iso.kind === 'undecided')
+		return { positive: false, path: 'exact', undecided: true, reason: iso.reason };
+	const lo = dyadicToNumber(iso.lo.m, iso.lo.e);
+	const hi = dyadicToNumber(iso.hi.m, iso.hi.e);
+	const w = iso.nonPositiveAt ? dyadicToNumber(iso.nonPositiveAt.m, iso.nonPositiveAt.e) : undefined;
+	return {
+		positive: false,
+		path: 'exact',
+		positiveRoots: 1,
+		rootInterval: [lo, hi],
+		...(w !== undefined && signAt(c, dyadicOf(w)) <= 0 ? { witness: w } : {})
+	};
 }
 
 export function dyadicFromNumber(x: number): Dyadic {

@@ -6,6 +6,7 @@
 // polynomial by a positive power of two never changes a sign.
 //
 // Conventions in this file: coefficient arrays are ASCENDING (index = power of s or x).
+import { tickNow } from './budget';
 
 export interface Dyadic {
 	m: bigint;
@@ -291,6 +292,7 @@ export function pseudoRemainder(a: readonly bigint[], b: readonly bigint[]): { r
 	const lb = b[db];
 	let steps = 0;
 	for (let k = r.length - 1; k >= db; k--) {
+		tickNow();
 		const t = r[k];
 		for (let i = 0; i <= k; i++) r[i] *= lb;
 		if (t !== 0n) for (let i = 0; i <= db; i++) r[k - db + i] -= t * b[i];
@@ -375,7 +377,7 @@ export function signVariations(p: readonly bigint[]): number {
  * (Routh 1877; Hurwitz 1895; e.g. Gantmacher, The Theory of Matrices, vol. 2, ch. XV). A polynomial of
  * degree n with positive leading coefficient is Hurwitz iff all n+1 first-column entries are positive.
  * Rows are formed fraction-free (multiplying by the previous pivot, which is positive while the test is
- * still alive) and then divided by their positive content, so signs are unchanged.
+ * still alive), so signs are unchanged.
  */
 export function isHurwitzExact(pIn: readonly bigint[]): { hurwitz: boolean; failedRow?: number } {
 	let p = trimInt(pIn.slice());
@@ -389,13 +391,26 @@ export function isHurwitzExact(pIn: readonly bigint[]): { hurwitz: boolean; fail
 	let r1: bigint[] = [];
 	for (let i = n; i >= 0; i -= 2) r0.push(p[i]);
 	for (let i = n - 1; i >= 0; i -= 2) r1.push(p[i]);
+	// Fraction-free rows: each cross product is divided exactly by the pivot two rows up (the entries are
+	// then Hurwitz-minor sized, as in Bareiss's fraction-free elimination, Math. Comp. 22 (1968) 565-578),
+	// which is positive while the test is alive, so signs are unchanged. Should a division ever not be
+	// exact, the row falls back to division by its positive content.
+	let divisor = 1n;
 	for (let row = 1; row <= n; row++) {
+		tickNow();
 		if (r1.length === 0 || r1[0] <= 0n) return { hurwitz: false, failedRow: row };
 		if (row === n) break;
-		const next: bigint[] = [];
-		for (let j = 0; j < r0.length - 1; j++) next.push(r1[0] * r0[j + 1] - r0[0] * (r1[j + 1] ?? 0n));
+		let next: bigint[] = [];
+		let exact = true;
+		for (let j = 0; j < r0.length - 1; j++) {
+			const v = r1[0] * r0[j + 1] - r0[0] * (r1[j + 1] ?? 0n);
+			next.push(v);
+			if (exact && v % divisor !== 0n) exact = false;
+		}
+		next = exact ? next.map((v) => v / divisor) : primitive(next);
+		divisor = exact ? r0[0] : 1n;
 		r0 = r1;
-		r1 = primitive(next);
+		r1 = next;
 	}
 	return { hurwitz: true };
 }
@@ -406,6 +421,7 @@ export function gcdPoly(a: readonly bigint[], b: readonly bigint[]): bigint[] {
 	let y = trimInt(primitive(b));
 	if (x.length < y.length) [x, y] = [y, x];
 	while (y.length > 0) {
+		tickNow();
 		if (y.length === 1) return [1n];
 		const { r } = pseudoRemainder(x, y);
 		x = y;

@@ -6,6 +6,7 @@
 // turned into proofs only through `inclusionDisks` (Smith's theorem) below, or used for reporting.
 //
 // Coefficient arrays are ASCENDING.
+import { tick } from './budget';
 
 export interface C {
 	re: number;
@@ -154,6 +155,7 @@ export function polyRoots(aIn: readonly number[], maxIter = 500): C[] {
 	const z = initialGuesses(a);
 	const done = new Array(n).fill(false);
 	for (let it = 0; it < maxIter; it++) {
+		tick();
 		let active = 0;
 		for (let i = 0; i < n; i++) {
 			if (done[i]) continue;
@@ -458,59 +460,4 @@ export function resonanceX(roots: readonly C[]): number[] {
 		if (x > 0) out.push(x, q.im * q.im);
 	}
 	return out;
-}
-
-/**
- * Minimum over w >= 0 of f(w) for a smooth function given pointwise (e.g. Re Z(jw) evaluated directly in
- * complex arithmetic, which is better conditioned than the squared polynomials in x): a logarithmic sweep plus
- * candidate frequencies, then golden-section refinement (Kiefer 1953) in log w around the six best points.
- * A numerical report, never a verdict.
- */
-export function minOverFrequency(
-	f: (w: number) => number,
-	cands: readonly number[],
-	range: [number, number]
-): { value: number; w: number | null } {
-	const pts: { w: number; v: number }[] = [];
-	const [lo, hi] = range;
-	const N = 64;
-	for (let i = 0; i <= N; i++) {
-		const w = lo * (hi / lo) ** (i / N);
-		pts.push({ w, v: f(w) });
-	}
-	for (const w of cands) if (w > 0 && Number.isFinite(w)) pts.push({ w, v: f(w) });
-	let best = { w: 0 as number | null, v: f(0) };
-	const start = pts
-		.filter((p) => Number.isFinite(p.v))
-		.sort((a, b) => a.v - b.v)
-		.slice(0, 6);
-	const phi = (Math.sqrt(5) - 1) / 2;
-	for (const s of start) {
-		if (s.v < best.v) best = { w: s.w, v: s.v };
-		let a = Math.log(s.w) - 0.02;
-		let b = Math.log(s.w) + 0.02;
-		let c = b - phi * (b - a);
-		let d = a + phi * (b - a);
-		let fc = f(Math.exp(c));
-		let fd = f(Math.exp(d));
-		for (let it = 0; it < 70; it++) {
-			if (fc < fd) {
-				b = d;
-				d = c;
-				fd = fc;
-				c = b - phi * (b - a);
-				fc = f(Math.exp(c));
-			} else {
-				a = c;
-				c = d;
-				fc = fd;
-				d = a + phi * (b - a);
-				fd = f(Math.exp(d));
-			}
-		}
-		const wm = Math.exp((a + b) / 2);
-		const vm = f(wm);
-		if (vm < best.v) best = { w: wm, v: vm };
-	}
-	return { value: best.v, w: best.w };
 }

@@ -1,3 +1,4 @@
+import { type EngineOptions, withBudget } from '../budget';
 import type { Plant } from '../model';
 import { type CheckResult, enc } from '../types';
 import { circleCore, nyquistDistance } from './circle';
@@ -8,7 +9,27 @@ const fmt = (x: number) => (Number.isFinite(x) ? Number(x.toPrecision(6)).toStri
 export const CIRCLE_ASSUMPTIONS =
 	'Holds for every nonlinearity, time-varying or not, that stays in the sector; the linear model is taken as exact; the criterion is sufficient, not necessary.';
 
-export function runCircle(plant: Plant, k1: number, k2: number): CheckResult {
+/** The circle check under its time budget (budget.ts); on exhaustion the verdict is inconclusive. */
+export function runCircle(plant: Plant, k1: number, k2: number, opts: EngineOptions = {}): CheckResult {
+	return withBudget(
+		opts.budgetSeconds,
+		() => circleResult(plant, k1, k2),
+		(e) => budgetResult('circle', e.message, CIRCLE_ASSUMPTIONS, { k1, k2: enc(k2) })
+	);
+}
+
+/** The result of a check whose time budget ran out (shared by the checks of this folder). */
+export function budgetResult(
+	type: CheckResult['type'],
+	message: string,
+	assumptions: string,
+	numbers: Record<string, number | string | null>
+): CheckResult {
+	const reason = `Inconclusive: ${message}.`;
+	return { type, verdict: 'inconclusive', numbers, explanation: reason, reason, assumptions };
+}
+
+function circleResult(plant: Plant, k1: number, k2: number): CheckResult {
 	const core = circleCore(plant, k1, k2);
 	const w0 = plant.w0;
 	const wOf = (x: number | null | undefined) =>
@@ -56,15 +77,18 @@ export function runCircle(plant: Plant, k1: number, k2: number): CheckResult {
 					'At high frequency Re Z does not stay positive in the way strict positive realness requires (relative degree of Z above one).';
 				break;
 			case 'undecided':
-				reason =
-					'The case sits so close to the boundary that the floating-point filter could not decide it, and the exact fallback is beyond its work limit for polynomials of this size.';
+				reason = `The exact root isolation of the frequency condition stopped: ${core.reason ?? 'work budget exceeded'}.`;
 				break;
 			case 'lossless':
 				reason = 'Re Z(jw) is identically zero: Z is lossless, not strictly positive real.';
 				break;
 			default:
 				reason = `The Nyquist curve enters the forbidden region${
-					core.witnessX !== undefined ? ` (shown exactly at ${fmt(wOf(core.witnessX) ?? 0)} rad/s)` : ''
+					core.witnessX !== undefined
+						? ` (shown exactly at ${fmt(wOf(core.witnessX) ?? 0)} rad/s)`
+						: core.rootInterval
+							? ` (Re Z(jw) = 0 proved between ${fmt(wOf(core.rootInterval[0]) ?? 0)} and ${fmt(wOf(core.rootInterval[1]) ?? 0)} rad/s by exact root isolation)`
+							: ''
 				}.`;
 		}
 		explanation =

@@ -8,15 +8,18 @@
 // either Z(inf) > 0 or Z(inf) = 0 with lim w^2 Re Z(jw) > 0. Re Z(jw) = E(x) / |Q(jw)|^2 with
 // E(x) = Re[P(jw) Q(-jw)], x = w^2, so the frequency condition is E > 0 on [0, inf).
 import { type DPoly, addD, degree, dyadicOf, evenRealPart, isZero, scaleD } from '../exact';
-import { certifiedHurwitz, certifiedPositiveEven, type DecisionPath } from '../certify';
-import { addF, evalJw, evenRealPartF, toFloat, toFloatCommon } from '../fpoly';
+import { certifiedHurwitz, certifiedPositiveEven, type DecisionPath, signOfEAt } from '../certify';
+import { addF, evenRealPartF, toFloat, toFloatCommon } from '../fpoly';
+import { circleFamily, familyConsider, familyMinimum } from '../frequency';
 import type { Plant } from '../model';
-import { type C, minOverFrequency, minRatioFromCandidates, polyRoots, resonanceX } from '../roots';
+import { type C, minRatioFromCandidates, polyRoots, resonanceX } from '../roots';
 
 export interface CircleCore {
 	pass: boolean;
 	/** Which condition failed, in words; undefined on pass. */
 	failure?: 'ill-posed' | 'hurwitz' | 'infinity' | 'frequency' | 'lossless' | 'undecided';
+	/** Why undecided (the work limit that was reached). */
+	reason?: string;
 	qHurwitz: boolean;
 	hurwitzPath: DecisionPath;
 	positivityPath?: DecisionPath;
@@ -24,7 +27,9 @@ export interface CircleCore {
 	qMaxRealPart: number | null;
 	/** Scaled x = (w/w0)^2 where E <= 0 was shown exactly (fail witness). */
 	witnessX?: number;
-	/** min over w of Re Z(jw), numerical, and where (scaled x), null at infinity. */
+	/** On a fail proved by root isolation: a scaled x interval holding a root of E. */
+	rootInterval?: [number, number];
+	/** min over w of Re Z(jw) and where (scaled x), null at infinity; see frequency.ts. */
 	minReZ?: number;
 	argminX?: number | null;
 }
@@ -38,7 +43,11 @@ export function zPolys(plant: Plant, k1: number, k2: number): { P: DPoly; Q: DPo
 	return { P, Q };
 }
 
-/** The exact SPR decision for Z; `numbers` adds the numerical minimum of Re Z (needed for the hint). */
+/**
+ * The exact SPR decision for Z, with the minimum of Re Z (frequency.ts) as the candidate witness for a fail:
+ * a fail is proved by the exact sign of E at a frequency, a pass by the floating filter or by certified root
+ * isolation of E on [0, inf).
+ */
 export function circleCore(
 	plant: Plant,
 	k1: number,
@@ -49,52 +58,56 @@ export function circleCore(
 	const { P, Q } = zPolys(plant, k1, k2);
 	if (degree(Q) < n)
 		return { pass: false, failure: 'ill-posed', qHurwitz: false, hurwitzPath: 'exact', qMaxRealPart: null };
-	const h = certifiedHurwitz(Q, opts.forceExact);
+	const fam = circleFamily(plant, k1);
+	const h = opts.forceExact ? certifiedHurwitz(Q, true) : fam.hurwitz;
 	const base = { qHurwitz: h.hurwitz, hurwitzPath: h.path, qMaxRealPart: h.maxRealPart };
 	if (h.undecided) return { pass: false, failure: 'undecided', ...base };
 	if (!h.hurwitz) return { pass: false, failure: 'hurwitz', ...base };
 	// Infinity part of Lemma 6.1: relative degree of Z at most 1 and deg E >= n - 1 (E's top coefficients
 	// are decided exactly from those of P and Q).
 	const topE = exactTopDegree(P, Q, n);
-	const pos =
-		topE === -1 || degree(P) < n - 1 || topE < n - 1
-			? null
-			: certifiedPositiveEven(P, Q, [], opts.forceExact);
-	// Numerical minimum of Re Z = E / |Q|^2 for the report, refined from the resonances of Q and the
-	// near-axis roots of E (where narrow dips are).
-	const [Pf, Qf] = toFloatCommon([P, Q]);
-	const cands = [...resonanceX(h.roots), ...(pos?.nearAxis ?? [])];
-	if (pos?.witness !== undefined) cands.push(pos.witness);
-	const reZ = (w: number) => {
-		const p = evalJw(Pf, w);
-		const q = evalJw(Qf, w);
-		return (p.re * q.re + p.im * q.im) / (q.re * q.re + q.im * q.im);
-	};
-	const [xl, xh] = xRange(h.roots);
-	const mw = minOverFrequency(
-		reZ,
-		cands.map((x) => Math.sqrt(x)),
-		[Math.sqrt(xl), Math.sqrt(xh)]
-	);
-	const degP = Pf.length - 1;
-	const lim = degP < n ? 0 : Pf[degP] / Qf[n];
-	const mn =
-		lim < mw.value ? { value: lim, x: null } : { value: mw.value, x: mw.w === null ? null : mw.w * mw.w };
-	const numeric = { minReZ: mn.value, argminX: mn.x };
-	if (topE === -1) return { pass: false, failure: 'lossless', ...base, ...numeric };
-	if (pos === null) return { pass: false, failure: 'infinity', ...base, ...numeric };
+	// Re Z = 1 + (k2 - k1) r (r itself for k2 = infinity); one minimum of r serves every k2.
+	let mn = familyMinimum(fam);
+	const reZ = (r: number) => (k2 === Infinity ? r : 1 + (k2 - k1) * r);
+	const numeric = () => ({ minReZ: reZ(mn.r), argminX: mn.x });
+	if (topE === -1) return { pass: false, failure: 'lossless', ...base, ...numeric() };
+	if (topE < n - 1 || degree(P) < n - 1) return { pass: false, failure: 'infinity', ...base, ...numeric() };
+	// The numerical minimum as a witness: the exact sign of E there.
+	if (!opts.forceExact && mn.x !== null && reZ(mn.r) <= 0 && signOfEAt(P, Q, mn.x) <= 0)
+		return {
+			pass: false,
+			failure: 'frequency',
+			...base,
+			positivityPath: 'exact',
+			witnessX: mn.x,
+			...numeric()
+		};
+	const pos = certifiedPositiveEven(P, Q, [], opts.forceExact);
 	if (pos.undecided)
-		return { pass: false, failure: 'undecided', ...base, positivityPath: pos.path, ...numeric };
-	if (!pos.positive)
+		return {
+			pass: false,
+			failure: 'undecided',
+			...(pos.reason ? { reason: pos.reason } : {}),
+			...base,
+			positivityPath: pos.path,
+			...numeric()
+		};
+	if (!pos.positive) {
+		// The isolation found a violation the sweep had missed: refine the minimum there.
+		const at =
+			pos.witness ?? (pos.rootInterval ? (pos.rootInterval[0] + pos.rootInterval[1]) / 2 : undefined);
+		if (at !== undefined && at > 0) mn = familyConsider(fam, at);
 		return {
 			pass: false,
 			failure: 'frequency',
 			...base,
 			positivityPath: pos.path,
-			witnessX: pos.witness,
-			...numeric
+			...(pos.witness !== undefined ? { witnessX: pos.witness } : {}),
+			...(pos.rootInterval ? { rootInterval: pos.rootInterval } : {}),
+			...numeric()
 		};
-	return { pass: true, ...base, positivityPath: pos.path, ...numeric };
+	}
+	return { pass: true, ...base, positivityPath: pos.path, ...numeric() };
 }
 
 /**
@@ -150,21 +163,22 @@ export function nyquistDistance(
 	k1: number,
 	k2: number
 ): { distance: number; x: number | null } {
-	const [Nf, Df] = toFloatCommon([plant.Ns, plant.Ds]);
 	const g = diskOf(k1, k2);
+	if (g.kind === 'half-plane' && g.side === 'right') {
+		// k1 = 0: the distance is min Re G + 1/k2, the same minimum (and frequency) as the circle check's.
+		const m = familyMinimum(circleFamily(plant, 0));
+		return { distance: m.r - g.boundary, x: m.x };
+	}
+	const [Nf, Df] = toFloatCommon([plant.Ns, plant.Ds]);
 	const DD = evenRealPartF(Df, Df);
 	const dr = denominatorRoots(plant);
 	const cands = resonanceX(dr);
 	const range = xRange(dr);
 	const minRatioOnHalfLine = (u: number[], v: number[]) => minRatioFromCandidates(u, v, cands, range);
 	if (g.kind === 'half-plane') {
-		const re = evenRealPartF(Nf, Df);
-		if (g.side === 'right') {
-			const m = minRatioOnHalfLine(re, DD);
-			return { distance: m.value - g.boundary, x: m.x };
-		}
+		// k2 = 0: the curve must stay left of -1/k1; the distance is -1/k1 - max Re G.
 		const m = minRatioOnHalfLine(
-			re.map((v) => -v),
+			evenRealPartF(Nf, Df).map((v) => -v),
 			DD
 		);
 		return { distance: g.boundary + m.value, x: m.x };

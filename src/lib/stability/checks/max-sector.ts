@@ -5,14 +5,14 @@
 // For k1 = 0 this is k2* = -1/min Re G(jw) (Khalil, 3rd ed., section 7.1, the k1 = 0 case). The estimate is
 // numerical; the reported threshold is a value just below it that the EXACT circle test has passed, and
 // thresholdFailAbove a value just above it that the exact test has failed, so the true supremum is bracketed.
-import { evenRealPart } from '../exact';
-import { toFloatCommon } from '../fpoly';
+import { type EngineOptions, withBudget } from '../budget';
+import { circleFamily, familyMinimum } from '../frequency';
 import type { Plant } from '../model';
-import { derivR, hornerR, mulR, positiveRealRoots, subR, trimR } from '../roots';
 import { type MaxSectorLimits, applyMaxSectorLimits } from '../preflight';
 import { type CheckResult, enc } from '../types';
-import { circleCore, zPolys } from './circle';
-import { type GainInterval, hurwitzAtGain, intervalContaining, linearGainIntervals } from './gain-range';
+import { circleCore } from './circle';
+import { budgetResult } from './circle-check';
+import { type GainInterval, intervalContaining, linearGainIntervals } from './gain-range';
 
 const fmt = (x: number) => (Number.isFinite(x) ? Number(x.toPrecision(6)).toString() : String(x));
 /** Six digits rounded down, so the words never claim more than the proved bound. */
@@ -32,83 +32,13 @@ export interface MaxSectorCore {
 	estimate: number;
 	argminX: number | null;
 	reason?: string;
-}
-
-/** Numerical k2* = min over x >= 0 with B < 0 of -A/B, from stationary points of A/B. */
-function estimateK2(plant: Plant, k1: number): { k2: number; x: number | null } {
-	const { Q } = zPolys(plant, k1, k1);
-	const [Af, Bf] = toFloatCommon([evenRealPart(plant.Ds, Q), evenRealPart(plant.Ns, Q)]);
-	const A = trimR(Af);
-	const B = trimR(Bf);
-	if (B.length === 0) return { k2: Infinity, x: null };
-	const cand: (number | null)[] = [0];
-	const stat = subR(mulR(derivR(A), B), mulR(A, derivR(B)));
-	// Accept roots well off the axis too (repeated factors make the stationary roots inaccurate) and polish.
-	for (const x of positiveRealRoots(stat, 0.05)) cand.push(x);
-	let best = Infinity;
-	let bx: number | null = null;
-	for (const x of cand) {
-		if (x === null) continue;
-		const b = hornerR(B, x);
-		if (!(b < 0)) continue;
-		const v = -hornerR(A, x) / b;
-		if (v < best) {
-			best = v;
-			bx = x;
-		}
-	}
-	// Behaviour at infinity: B's leading coefficient negative means the ratio tends to -lc(A)/lc(B) x^(dA-dB).
-	const lb = B[B.length - 1];
-	if (lb < 0) {
-		const dA = A.length - 1;
-		const dB = B.length - 1;
-		const lim = dA > dB ? Infinity : dA === dB ? -A[dA] / lb : 0;
-		if (lim < best) {
-			best = lim;
-			bx = null;
-		}
-	}
-	// Independent sweep with local refinement (robust when repeated factors spoil the stationary roots).
-	const sw = sweepEstimate(A, B);
-	if (sw.k2 < best) return sw;
-	return { k2: best, x: bx };
-}
-
-function sweepEstimate(A: number[], B: number[]): { k2: number; x: number | null } {
-	const r = (x: number) => {
-		const b = hornerR(B, x);
-		return b < 0 ? -hornerR(A, x) / b : Infinity;
-	};
-	const N = 2000;
-	let best = Infinity;
-	let bi = -1;
-	const xs: number[] = [];
-	for (let i = 0; i <= N; i++) xs.push(1e-8 * 1e16 ** (i / N));
-	xs.forEach((x, i) => {
-		const v = r(x);
-		if (v < best) {
-			best = v;
-			bi = i;
-		}
-	});
-	if (bi < 0) return { k2: Infinity, x: null };
-	// Golden-section refinement in log x between the neighbours.
-	let a = Math.log(xs[Math.max(0, bi - 1)]);
-	let b = Math.log(xs[Math.min(N, bi + 1)]);
-	const phi = (Math.sqrt(5) - 1) / 2;
-	for (let it = 0; it < 100; it++) {
-		const c = b - phi * (b - a);
-		const d = a + phi * (b - a);
-		if (r(Math.exp(c)) < r(Math.exp(d))) b = d;
-		else a = c;
-	}
-	const xm = Math.exp((a + b) / 2);
-	const vm = r(xm);
-	return vm < best ? { k2: vm, x: xm } : { k2: best, x: xs[bi] };
+	/** Why no sector could be proved when the exact test ran out of its work limit. */
+	undecidedReason?: string;
 }
 
 export function maxSectorCore(plant: Plant, k1: number): MaxSectorCore {
-	if (!hurwitzAtGain(plant, k1))
+	const fam = circleFamily(plant, k1);
+	if (fam.Q.c.length - 1 < plant.order || !fam.hurwitz.hurwitz || fam.hurwitz.undecided)
 		return {
 			feasible: false,
 			threshold: null,
@@ -120,82 +50,118 @@ export function maxSectorCore(plant: Plant, k1: number): MaxSectorCore {
 					? 'The plant is not Hurwitz, so no sector [0, k2] can be proved.'
 					: `The loop closed with gain k1 = ${fmt(k1)} is unstable, so no sector with this lower bound can be proved.`
 		};
-	const est = estimateK2(plant, k1);
-	if (est.k2 === Infinity) {
-		const inf = circleCore(plant, k1, Infinity);
-		if (inf.pass)
-			return { feasible: true, threshold: Infinity, failAbove: null, estimate: Infinity, argminX: null };
-	}
-	// Certify just below the estimate (and show failure just above), widening the offset when a decision is
-	// too close to the boundary for the filter; bisect on the certified test if the estimate was wrong.
 	const tryAt = (k2: number): 'pass' | 'fail' | 'undecided' => {
 		const c = circleCore(plant, k1, k2);
 		return c.pass ? 'pass' : c.failure === 'undecided' ? 'undecided' : 'fail';
 	};
-	let hi = est.k2;
-	if (!(hi > k1)) {
-		// The floating estimate is unusable (cancellation near repeated roots): the sector can be no wider than
-		// the linear gain range, so bisect below its upper end.
-		const iv = intervalContaining(linearGainIntervals(plant), k1 + Math.abs(k1) * 1e-12 + 1e-300);
-		hi = iv && Number.isFinite(iv.high) ? iv.high : Math.max(1, Math.abs(k1)) * 2;
-	}
-	if (!Number.isFinite(hi)) {
-		// Estimate unbounded but the infinite sector failed (a condition at infinity): grow until failure.
-		let g = Math.max(1, Math.abs(k1)) * 2;
-		for (let i = 0; i < 200 && tryAt(g) === 'pass'; i++) g *= 4;
-		hi = g;
-	}
-	let threshold: number | null = null;
-	let failAbove: number | null = null;
-	const span = hi - k1;
-	let wrong = false;
-	for (const f of [1e-10, 1e-8, 1e-6, 1e-4, 1e-2, 0.1]) {
-		const below = hi - span * f;
-		if (!(below > k1)) break;
-		const r = tryAt(below);
-		if (r === 'pass') {
-			threshold = below;
-			break;
+	// k2* = k1 - 1/min r (frequency.ts). The bracket: a value just above it where the exact test fails (the
+	// minimum of r is the witness) and one just below it where the exact test passes (root isolation). A pass
+	// that fails instead means the minimum found was not the global one: circleCore then refines the minimum
+	// where the isolation found the violation, and the bracket is formed again.
+	let undecidedReason: string | undefined;
+	for (let round = 0; round < 6; round++) {
+		const mn = familyMinimum(fam);
+		if (!(mn.r < 0)) {
+			// r >= 0 on [0, inf): every k2 passes the frequency condition; [k1, infinity] itself is decided
+			// exactly (its condition at infinity can still fail).
+			const inf = circleCore(plant, k1, Infinity);
+			if (inf.pass)
+				return { feasible: true, threshold: Infinity, failAbove: null, estimate: Infinity, argminX: mn.x };
+			if (familyMinimum(fam) !== mn) continue;
+			return growUntilFailure(plant, k1, tryAt, mn.x);
 		}
-		if (r === 'fail') {
-			wrong = true;
-			break;
+		const est = k1 - 1 / mn.r;
+		const scale = Math.max(Math.abs(est), est - k1);
+		let failAbove: number | null = null;
+		for (const f of [1e-12, 1e-11, 1e-10]) {
+			const r = tryAt(est + scale * f);
+			if (r === 'fail') {
+				failAbove = est + scale * f;
+				break;
+			}
 		}
-	}
-	for (const f of [1e-10, 1e-8, 1e-6, 1e-4, 1e-2, 0.1]) {
-		const above = hi + span * f;
-		const r = tryAt(above);
-		if (r === 'fail') {
-			failAbove = above;
-			break;
+		let threshold: number | null = null;
+		let moved = false;
+		for (const f of [1e-12, 1e-11, 1e-10]) {
+			const below = est - scale * f;
+			if (!(below > k1)) break;
+			const r = tryAt(below);
+			if (r === 'pass') {
+				threshold = below;
+				break;
+			}
+			if (r === 'fail') {
+				moved = familyMinimum(fam) !== mn;
+				break;
+			}
+			undecidedReason = circleCore(plant, k1, below).reason;
 		}
-		if (r === 'pass') {
-			threshold = above;
-			break;
-		}
+		if (moved) continue;
+		if (threshold !== null && failAbove !== null)
+			return { feasible: true, threshold, failAbove, estimate: est, argminX: mn.x };
+		return bisect(k1, threshold, failAbove ?? est * (1 + 1e-6), tryAt, est, mn.x, undecidedReason);
 	}
-	if (wrong || threshold === null) {
-		let a = k1;
-		let b = failAbove ?? hi;
-		for (let i = 0; i < 40; i++) {
-			const m = (a + b) / 2;
-			if (m <= a || m >= b || b - a <= 1e-9 * Math.abs(b)) break;
-			const r = tryAt(m);
-			// An undecided test is treated as "not certified": the reported bound stays a proved one.
-			if (r === 'pass') a = m;
-			else b = m;
-		}
-		threshold = a > k1 ? a : threshold;
-		failAbove = failAbove ?? b;
+	const mn = familyMinimum(fam);
+	const est = mn.r < 0 ? k1 - 1 / mn.r : Infinity;
+	return bisect(
+		k1,
+		null,
+		Number.isFinite(est) ? est * (1 + 1e-6) : 2 * Math.max(1, Math.abs(k1)),
+		tryAt,
+		est,
+		mn.x
+	);
+}
+
+/** Fallback: bisection on the exact test between k1 and a failing value (a bound stays a proved one). */
+function bisect(
+	k1: number,
+	passAt: number | null,
+	failAt: number,
+	tryAt: (k2: number) => 'pass' | 'fail' | 'undecided',
+	estimate: number,
+	argminX: number | null,
+	reason?: string
+): MaxSectorCore {
+	let a = passAt ?? k1;
+	let b = failAt;
+	let failProved = tryAt(b) === 'fail';
+	for (let i = 0; i < 200 && !failProved; i++) {
+		b = k1 + (b - k1) * 2;
+		failProved = tryAt(b) === 'fail';
 	}
-	// Report the frequency where Re Z is smallest at the certified threshold (robust even when the estimate
-	// above was off, e.g. for repeated factors).
-	let argminX = est.x;
-	if (threshold !== null && Number.isFinite(threshold)) {
-		const at = circleCore(plant, k1, threshold);
-		if (at.argminX !== undefined) argminX = at.argminX;
+	for (let i = 0; i < 80; i++) {
+		const m = (a + b) / 2;
+		if (m <= a || m >= b || b - a <= 1e-10 * Math.abs(b)) break;
+		const r = tryAt(m);
+		if (r === 'pass') a = m;
+		else b = m;
 	}
-	return { feasible: threshold !== null, threshold, failAbove, estimate: est.k2, argminX };
+	const threshold = a > k1 ? a : null;
+	return {
+		feasible: threshold !== null,
+		threshold,
+		failAbove: failProved ? b : null,
+		estimate,
+		argminX,
+		...(threshold === null && reason ? { undecidedReason: reason } : {})
+	};
+}
+
+/** The frequency condition holds for every k2 but [k1, infinity] fails at infinity: grow until failure. */
+function growUntilFailure(
+	plant: Plant,
+	k1: number,
+	tryAt: (k2: number) => 'pass' | 'fail' | 'undecided',
+	argminX: number | null
+): MaxSectorCore {
+	let g = Math.max(1, Math.abs(k1)) * 2;
+	let last: number | null = null;
+	for (let i = 0; i < 200 && tryAt(g) === 'pass'; i++) {
+		last = g;
+		g *= 4;
+	}
+	return bisect(k1, last, g, tryAt, Infinity, argminX);
 }
 
 function intervalOut(
@@ -204,11 +170,24 @@ function intervalOut(
 	return iv.map((g) => [enc(g.low) as number, enc(g.high) as number]);
 }
 
+const MAX_SECTOR_ASSUMPTIONS =
+	'The threshold is proved by the exact circle test; the linear gain range holds for constant gains only, the sector for any nonlinearity in it.';
+
+/** The largest-sector check under its time budget (budget.ts). */
 export function runMaxSector(
 	plant: Plant,
 	k1: number,
-	limits: MaxSectorLimits = { illPosedAbove: null, unbounded: false }
+	limits: MaxSectorLimits = { illPosedAbove: null, unbounded: false },
+	opts: EngineOptions = {}
 ): CheckResult {
+	return withBudget(
+		opts.budgetSeconds,
+		() => maxSectorResult(plant, k1, limits),
+		(e) => budgetResult('max-sector', e.message, MAX_SECTOR_ASSUMPTIONS, { lower: k1 })
+	);
+}
+
+function maxSectorResult(plant: Plant, k1: number, limits: MaxSectorLimits): CheckResult {
 	// Unbounded and ill-posed limits are decided exactly before (or after) the search: preflight.ts.
 	const core = applyMaxSectorLimits(plant, k1, limits, () => maxSectorCore(plant, k1));
 	const iv = linearGainIntervals(plant);
@@ -257,9 +236,8 @@ export function runMaxSector(
 			: {
 					reason:
 						core.reason ??
-						'No sector above k1 could be proved within the work limit of the exact fallback (the floating-point filter cannot resolve this plant, e.g. highly repeated lightly damped factors).'
+						`No sector above k1 could be proved: the exact root isolation stopped (${core.undecidedReason ?? 'work budget exceeded'}).`
 				}),
-		assumptions:
-			'The threshold is proved by the exact circle test; the linear gain range holds for constant gains only, the sector for any nonlinearity in it.'
+		assumptions: MAX_SECTOR_ASSUMPTIONS
 	};
 }

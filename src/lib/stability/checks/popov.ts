@@ -21,12 +21,15 @@ import {
 	oddMultiplicityPositiveRoots,
 	scaleD
 } from '../exact';
-import { certifiedHurwitz, certifiedPositiveOnHalfLine } from '../certify';
-import { addF, toFloatCommon } from '../fpoly';
+import { type EngineOptions, tick, withBudget } from '../budget';
+import { certifiedPositiveOnHalfLine } from '../certify';
+import { toFloatCommon } from '../fpoly';
+import { circleFamily } from '../frequency';
 import type { Plant } from '../model';
-import { minRatioOnHalfLine } from '../roots';
+import type { C } from '../roots';
 import { popovMultipliers } from '../preflight';
 import { type CheckResult, enc } from '../types';
+import { budgetResult } from './circle-check';
 
 const fmt = (x: number) => (Number.isFinite(x) ? Number(x.toPrecision(6)).toString() : String(x));
 
@@ -34,35 +37,178 @@ interface PopovPolys {
 	M: DPoly;
 	R: DPoly;
 	xJ: DPoly;
-	Mf: number[];
-	Rf: number[];
-	xJf: number[];
+	/** Sample frequencies (scaled w) with Re G and w Im G there, for g(q) (see gOf). */
+	ws: number[];
+	reG: number[];
+	wImG: number[];
+	G: (w: number) => { re: number; im: number };
+	relDeg: number;
+	lcRatio: number;
 }
 
-function popovPolys(plant: Plant): PopovPolys {
+function popovPolys(plant: Plant, roots: readonly C[]): PopovPolys {
 	const M = evenRealPart(plant.Ds, plant.Ds);
 	const R = evenRealPart(plant.Ns, plant.Ds);
 	const J = oddImagPart(plant.Ns, plant.Ds);
 	const xJ: DPoly = { c: [0n, ...J.c], e: J.e };
-	const [Mf, Rf, xJf] = toFloatCommon([M, R, xJ]);
-	return { M, R, xJ, Mf, Rf, xJf };
+	// G(jw) from N and D in complex arithmetic (far better conditioned near lightly damped modes than the
+	// squared polynomials M, R, J in x; exact where its error bound is too large: frequency.ts), sampled on a
+	// log sweep plus the dips of D's roots.
+	const [Nf, Df] = toFloatCommon([plant.Ns, plant.Ds]);
+	const G = circleFamily(plant, 0).gAtW;
+	let lo = Infinity;
+	let hi = 0;
+	for (const r of roots) {
+		const m = Math.hypot(r.re, r.im);
+		if (m > 0) {
+			lo = Math.min(lo, m);
+			hi = Math.max(hi, m);
+		}
+	}
+	if (!(hi > 0)) [lo, hi] = [1, 1];
+	lo *= 1e-2;
+	hi *= 1e2;
+	const ws: number[] = [];
+	for (let i = 0; i <= 160; i++) ws.push(lo * (hi / lo) ** (i / 160));
+	for (const q of roots) {
+		if (!(q.im > 0)) continue;
+		const h = Math.max(Math.abs(q.re), 1e-300);
+		for (const k of [-4, -2, -1, -0.5, 0, 0.5, 1, 2, 4]) if (q.im + k * h > 0) ws.push(q.im + k * h);
+	}
+	let sorted = [...new Set(ws)].sort((a, b) => a - b);
+	let reG: number[] = [];
+	let wImG: number[] = [];
+	for (const w of sorted) {
+		const g = G(w);
+		reG.push(g.re);
+		wImG.push(w * g.im);
+	}
+	// Halve the intervals where Re G or w Im G jumps by much of its range (a narrow dip may sit between the
+	// samples), up to 3000 samples: the search over q then runs on the samples alone.
+	for (let pass = 0; pass < 24 && sorted.length < 3000; pass++) {
+		const span = (a: number[]) => Math.max(...a) - Math.min(...a);
+		const t1 = 0.02 * span(reG);
+		const t2 = 0.02 * span(wImG);
+		const ns: number[] = [];
+		const nr: number[] = [];
+		const ni: number[] = [];
+		let added = 0;
+		for (let i = 0; i < sorted.length; i++) {
+			ns.push(sorted[i]);
+			nr.push(reG[i]);
+			ni.push(wImG[i]);
+			if (
+				i + 1 < sorted.length &&
+				sorted[i + 1] - sorted[i] > 1e-9 * sorted[i] &&
+				(!(Math.abs(reG[i + 1] - reG[i]) <= t1) || !(Math.abs(wImG[i + 1] - wImG[i]) <= t2))
+			) {
+				tick();
+				const w = (sorted[i] + sorted[i + 1]) / 2;
+				const g = G(w);
+				ns.push(w);
+				nr.push(g.re);
+				ni.push(w * g.im);
+				added++;
+			}
+		}
+		sorted = ns;
+		reG = nr;
+		wImG = ni;
+		if (added === 0) break;
+	}
+	const relDeg = Df.length - Nf.length;
+	const lcRatio = Nf.length ? Nf[Nf.length - 1] / Df[Df.length - 1] : 0;
+	return { M, R, xJ, ws: sorted, reG, wImG, G, relDeg, lcRatio };
 }
 
-/** g(q) in scaled units and its minimiser x. */
-function gOf(pp: PopovPolys, q: number): { value: number; x: number | null } {
-	const u = addF(pp.Rf, pp.xJf, -q);
-	const m = minRatioOnHalfLine(u, pp.Mf);
-	return { value: m.value, x: m.x };
+/**
+ * g(q) = min over w of Re[(1 + j w q) G(jw)] = Re G - q w Im G (scaled units) and its minimiser x = w^2:
+ * the local minima of the samples, refined by golden section between their neighbours (Kiefer 1953).
+ * Numerical: it chooses q and the candidate witnesses; the verdicts are decided exactly.
+ */
+function gOf(pp: PopovPolys, q: number, refine = true): { value: number; x: number | null } {
+	const f = (w: number) => {
+		const g = pp.G(w);
+		return g.re - q * w * g.im;
+	};
+	const v = pp.ws.map((_, i) => pp.reG[i] - q * pp.wImG[i]);
+	const g0 = pp.G(0).re;
+	let best = { value: g0, x: 0 as number | null };
+	const locals: number[] = [];
+	for (let i = 0; i < v.length; i++)
+		if (v[i] <= (i > 0 ? v[i - 1] : Infinity) && v[i] <= (i + 1 < v.length ? v[i + 1] : Infinity))
+			locals.push(i);
+	locals.sort((i, j) => v[i] - v[j]);
+	const phi = (Math.sqrt(5) - 1) / 2;
+	if (!refine)
+		// Samples only (the search over q): the vertex of the parabola through each of the three lowest local
+		// minima and its neighbours, which is far closer to the true minimum than the sample itself.
+		for (const i of locals.slice(0, 3)) {
+			let val = v[i];
+			let w = pp.ws[i];
+			if (i > 0 && i + 1 < v.length) {
+				const [a, b, c] = [pp.ws[i - 1], pp.ws[i], pp.ws[i + 1]];
+				const [fa, fb, fc] = [v[i - 1], v[i], v[i + 1]];
+				const den = (b - a) * (fb - fc) - (b - c) * (fb - fa);
+				if (den !== 0) {
+					const t = b - (0.5 * ((b - a) ** 2 * (fb - fc) - (b - c) ** 2 * (fb - fa))) / den;
+					if (t > a && t < c) {
+						// value of the parabola at its vertex (Lagrange form)
+						const pv =
+							(fa * (t - b) * (t - c)) / ((a - b) * (a - c)) +
+							(fb * (t - a) * (t - c)) / ((b - a) * (b - c)) +
+							(fc * (t - a) * (t - b)) / ((c - a) * (c - b));
+						if (pv < val) {
+							val = pv;
+							w = t;
+						}
+					}
+				}
+			}
+			if (val < best.value) best = { value: val, x: w * w };
+		}
+	for (const i of refine ? locals.slice(0, 2) : []) {
+		tick();
+		let a = i > 0 ? pp.ws[i - 1] : pp.ws[i] / 2;
+		let b = i + 1 < pp.ws.length ? pp.ws[i + 1] : pp.ws[i] * 2;
+		let c = b - phi * (b - a);
+		let d = a + phi * (b - a);
+		let fc = f(c);
+		let fd = f(d);
+		for (let it = 0; it < 80 && b - a > 1e-9 * b; it++) {
+			if (fc < fd) {
+				b = d;
+				d = c;
+				fd = fc;
+				c = b - phi * (b - a);
+				fc = f(c);
+			} else {
+				a = c;
+				c = d;
+				fc = fd;
+				d = a + phi * (b - a);
+				fd = f(d);
+			}
+		}
+		const w = (a + b) / 2;
+		const fv = f(w);
+		if (fv < best.value) best = { value: fv, x: w * w };
+	}
+	// The limit as w -> infinity: for relative degree 1, G ~ (lc N / lc D) / (jw), so the value tends to
+	// q lc N / lc D; for higher relative degree it tends to 0.
+	const lim = pp.relDeg === 1 ? q * pp.lcRatio : 0;
+	if (lim < best.value) best = { value: lim, x: null };
+	return best;
 }
 
 function maximiseG(pp: PopovPolys): { q: number; g: number; x: number | null } {
-	const g0 = gOf(pp, 0);
+	const g0 = gOf(pp, 0, false);
 	let best = { q: 0, g: g0.value, x: g0.x };
 	const grid: number[] = [];
 	for (let e = -8; e <= 8; e += 0.5) grid.push(10 ** e);
 	let bi = -1;
 	for (let i = 0; i < grid.length; i++) {
-		const r = gOf(pp, grid[i]);
+		const r = gOf(pp, grid[i], false);
 		if (r.value > best.g) {
 			best = { q: grid[i], g: r.value, x: r.x };
 			bi = i;
@@ -74,27 +220,41 @@ function maximiseG(pp: PopovPolys): { q: number; g: number; x: number | null } {
 	const phi = (Math.sqrt(5) - 1) / 2;
 	let c = b - phi * (b - a);
 	let d = a + phi * (b - a);
-	let gc = gOf(pp, c).value;
-	let gd = gOf(pp, d).value;
-	for (let it = 0; it < 80 && b - a > 1e-13 * Math.max(1, b); it++) {
+	let gc = gOf(pp, c, false).value;
+	let gd = gOf(pp, d, false).value;
+	for (let it = 0; it < 60 && b - a > 1e-9 * Math.max(1e-300, b); it++) {
 		if (gc > gd) {
 			b = d;
 			d = c;
 			gd = gc;
 			c = b - phi * (b - a);
-			gc = gOf(pp, c).value;
+			gc = gOf(pp, c, false).value;
 		} else {
 			a = c;
 			c = d;
 			gc = gd;
 			d = a + phi * (b - a);
-			gd = gOf(pp, d).value;
+			gd = gOf(pp, d, false).value;
 		}
 	}
 	const qm = (a + b) / 2;
-	const r = gOf(pp, qm);
-	if (r.value > best.g) best = { q: qm, g: r.value, x: r.x };
-	return { q: best.q, g: best.g, x: best.x };
+	let qs = gOf(pp, qm, false).value > best.g ? qm : best.q;
+	// A short golden-section search on the refined g (between the samples) around that multiplier: the
+	// samples alone misplace the maximum of g where it is a kink.
+	if (qs > 0) {
+		let a2 = qs * 0.98;
+		let b2 = qs * 1.02;
+		for (let it = 0; it < 25; it++) {
+			const c2 = b2 - phi * (b2 - a2);
+			const d2 = a2 + phi * (b2 - a2);
+			if (gOf(pp, c2).value > gOf(pp, d2).value) b2 = d2;
+			else a2 = c2;
+		}
+		const qr = (a2 + b2) / 2;
+		if (gOf(pp, qr).value > gOf(pp, qs).value) qs = qr;
+	}
+	const r = gOf(pp, qs);
+	return { q: qs, g: r.value, x: r.x };
 }
 
 /** E_q(x) = M + k R - k q xJ, exact for dyadic k and q. */
@@ -188,7 +348,7 @@ export function popovCore(plant: Plant): PopovCore {
 			thresholdCertified: null,
 			argminX: null
 		};
-	const hw = certifiedHurwitz(plant.Ds);
+	const hw = circleFamily(plant, 0).hurwitz;
 	if (hw.undecided)
 		return {
 			applicable: false,
@@ -210,7 +370,7 @@ export function popovCore(plant: Plant): PopovCore {
 			thresholdCertified: null,
 			argminX: null
 		};
-	const pp = popovPolys(plant);
+	const pp = popovPolys(plant, hw.roots);
 	// Theorem 7.3 excludes a q with -1/q an eigenvalue of A: the multiplier is moved off one (preflight.ts).
 	const found = maximiseG(pp);
 	const qOk = popovMultipliers(plant, [found.q])[0] ?? found.q;
@@ -247,11 +407,22 @@ export function popovCore(plant: Plant): PopovCore {
 	};
 }
 
-export function runPopov(plant: Plant, k: number): CheckResult {
+const POPOV_ASSUMPTIONS =
+	'Only for time-invariant (memoryless) nonlinearities in the sector; the plant must be Hurwitz and strictly proper with a minimal realisation; sufficient, not necessary.';
+
+/** The Popov check under its time budget (budget.ts). */
+export function runPopov(plant: Plant, k: number, opts: EngineOptions = {}): CheckResult {
+	return withBudget(
+		opts.budgetSeconds,
+		() => popovResult(plant, k),
+		(e) => budgetResult('popov', e.message, POPOV_ASSUMPTIONS, { k })
+	);
+}
+
+function popovResult(plant: Plant, k: number): CheckResult {
 	const core = popovCore(plant);
 	const w0 = plant.w0;
-	const assumptions =
-		'Only for time-invariant (memoryless) nonlinearities in the sector; the plant must be Hurwitz and strictly proper with a minimal realisation; sufficient, not necessary.';
+	const assumptions = POPOV_ASSUMPTIONS;
 	const base = { type: 'popov' as const, assumptions };
 	if (!core.applicable)
 		return {
