@@ -96,11 +96,11 @@ describe('publishing a model version in the browser', () => {
 					},
 					{ timeout: 30_000, interval: 1_000 }
 				)
-				.toBe('failing');
+				.toBe('not-proved');
 			// The header badge follows the panel, without a reload.
 			if (live) {
 				const header = page.locator('h1 + p [data-state]').first();
-				await expect.poll(() => header.getAttribute('data-state'), { timeout: 10_000 }).toBe('failing');
+				await expect.poll(() => header.getAttribute('data-state'), { timeout: 10_000 }).toBe('not-proved');
 			}
 		} finally {
 			resumeHarnessWorker();

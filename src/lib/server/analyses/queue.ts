@@ -17,18 +17,15 @@ export interface Trigger {
 }
 
 async function enqueueWhere(trx: Db, trigger: Trigger, where: string, bindings: unknown[]): Promise<number> {
-	// The model version in force: the spec's pinned version, else the model's latest one.
+	// The model version in force is the view requirement_inputs (its one definition).
 	// Retired requirements are not re-verified.
 	const r = await trx.raw(
 		`insert into analysis_runs (project_id, requirement_id, requirement_revision, spec_id, model_version_id,
 				model_hash, engine_version, trigger, trigger_ref, triggered_by)
-			select r.project_id, r.id, r.current_revision, s.id, mv.id, mv.content_hash, ?, ?, ?, ?
+			select r.project_id, r.id, r.current_revision, ri.spec_id, ri.model_version_id, ri.model_hash, ?, ?, ?, ?
 			from requirements r
 			join requirement_revisions rr on rr.requirement_id = r.id and rr.revision = r.current_revision
-			join stability_specs s on s.id = r.current_spec_id
-			join models m on m.id = s.model_id
-			join model_versions mv on mv.model_id = m.id
-				and (case when s.model_version_id is null then mv.version = m.latest_version else mv.id = s.model_version_id end)
+			join requirement_inputs ri on ri.requirement_id = r.id and ri.model_version_id is not null
 			where rr.status <> 'retired' and (${where})
 			order by r.id
 			on conflict (requirement_id, requirement_revision, spec_id, model_version_id, engine_version) do nothing
@@ -58,9 +55,12 @@ export async function enqueueForModelVersion(
 	modelVersionId: number,
 	trigger: Trigger
 ): Promise<number> {
-	return enqueueWhere(trx, { ref: `model-version:${modelVersionId}`, ...trigger }, 'mv.id = ?', [
-		modelVersionId
-	]);
+	return enqueueWhere(
+		trx,
+		{ ref: `model-version:${modelVersionId}`, ...trigger },
+		'ri.model_version_id = ?',
+		[modelVersionId]
+	);
 }
 
 /** Queue runs for every requirement of every project (a new engine version). */

@@ -1,4 +1,4 @@
-import { COMBINED_LABELS } from '../../trace/states';
+import { stateWords } from '../trace/export';
 import type { Snapshot, SnapshotRequirement } from '../trace/service';
 
 // What changed between two manifests (two baselines, or a baseline and the current state), keyed by
@@ -76,7 +76,7 @@ function requirementChanges(
 	push('verdict', 'latest verdict', verdictOf(x), verdictOf(y));
 	push('verdict', 'certified numbers', numbersOf(x), numbersOf(y));
 	push('evidence', 'evidence', evidenceOf(a, x.identifier), evidenceOf(b, y.identifier));
-	push('state', 'state', COMBINED_LABELS[x.state], COMBINED_LABELS[y.state]);
+	push('state', 'state', stateWords(x), stateWords(y));
 	return out;
 }
 

@@ -257,7 +257,16 @@ export function runPopov(plant: Plant, k: number): CheckResult {
 			threshold: null,
 			numbers: { k },
 			explanation: core.reason!,
-			reason: core.reason
+			reason: core.reason,
+			// A direct feedthrough is a failed precondition; an undecided Hurwitz test is not.
+			...(degree(plant.Ns) >= plant.order
+				? {
+						notApplicable: {
+							precondition: 'the plant is strictly proper, which the Popov criterion requires',
+							remedy: 'The circle criterion applies to plants with a direct feedthrough.'
+						}
+					}
+				: {})
 		};
 	if (!core.hurwitz) {
 		const reason =
@@ -269,7 +278,12 @@ export function runPopov(plant: Plant, k: number): CheckResult {
 			threshold: null,
 			numbers: { k },
 			explanation: reason,
-			reason
+			reason,
+			notApplicable: {
+				precondition: 'the plant is Hurwitz, which the Popov criterion requires',
+				remedy:
+					'A loop transformation makes it applicable: take out a stabilising gain and use the circle criterion with a lower bound k1 > 0, which allows unstable plants.'
+			}
 		};
 	}
 	const pp = core.pp!;
