@@ -317,6 +317,7 @@ export async function createEvidence(
 		review?: 'accepted' | 'rejected';
 		reviewer?: { id: number; email: string };
 		content?: string;
+		method?: 'test' | 'inspection' | 'demonstration';
 	} = {}
 ) {
 	const db = testDb();
@@ -329,7 +330,7 @@ export async function createEvidence(
 				revision: 1,
 				title: o.title ?? 'Rig frequency response',
 				kind: 'frequency-response',
-				method: 'test',
+				method: o.method ?? 'test',
 				original_name: 'rig-response.csv',
 				storage_key: `test/${unique('k')}/rig-response.csv`,
 				content_type: 'text/csv',

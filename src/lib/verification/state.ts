@@ -148,15 +148,35 @@ function listWords(words: string[]): string {
 	return `${words.slice(0, -1).join(', ')} and ${words[words.length - 1]}`;
 }
 
-/** The label of a verified requirement: by which methods, and whether through its derived ones. */
-export function verifiedLabel(methods: readonly string[], how: HowVerified): string {
-	const by = `by ${listWords(methods.map(methodWord))}`;
-	if (how === 'through-children') return 'Verified through derived requirements';
+/**
+ * The label of a verified requirement: the methods it satisfied itself, and whether through its
+ * derived requirements.
+ */
+export function verifiedLabel(direct: readonly string[], how: HowVerified): string {
+	const by = `by ${listWords(direct.map(methodWord))}`;
+	if (how === 'through-children' || direct.length === 0) return 'Verified through derived requirements';
 	if (how === 'both') return `Verified ${by} and through derived requirements`;
 	return `Verified ${by}`;
 }
 
-/** The blockers of a requirement's own (not its children's). */
+/**
+ * The methods a requirement satisfies itself: analysis when the run of its current inputs proved it,
+ * any other method when accepted evidence of that method verifies it (only methods it names).
+ */
+export function directMethods(f: RequirementFacts): string[] {
+	return f.methods.filter((m) =>
+		m === 'analysis'
+			? analysisStateOf({ specId: f.spec?.id ?? null, modelVersionId: f.modelVersionId, run: f.run }) ===
+				'verified'
+			: f.evidence.some((e) => e.method === m && e.decision === 'accepted')
+	);
+}
+
+/**
+ * The blockers of a requirement's own (not its children's). A requirement with derived requirements
+ * may leave a method it names to them: a method it has nothing of its own for (no specification, no
+ * evidence of that method) is then covered through its children, not missing.
+ */
 export function ownBlockers(f: RequirementFacts, engineVersion: string, hasChildren: boolean): Blocker[] {
 	const out: Blocker[] = [];
 	const add = (kind: BlockerKind, weight: Weight, text: string) => out.push({ kind, weight, text });
@@ -219,7 +239,7 @@ export function ownBlockers(f: RequirementFacts, engineVersion: string, hasChild
 	if (analysis !== 'pending' && f.pendingRuns > 0)
 		add('pending-run', 'pending', 'A re-run of this requirement is queued or running.');
 
-	if (f.methods.includes('analysis') && !f.spec)
+	if (f.methods.includes('analysis') && !f.spec && !hasChildren)
 		add('no-spec', 'missing', 'Analysis is named as a method but there is no stability specification.');
 	for (const m of f.methods) {
 		if (m === 'analysis') continue;
@@ -239,7 +259,7 @@ export function ownBlockers(f: RequirementFacts, engineVersion: string, hasChild
 				'pending',
 				`${open === 1 ? 'One' : open} ${methodWord(m)} evidence item${open === 1 ? ' awaits' : 's await'} review.`
 			);
-		if (!accepted && !open)
+		if (!accepted && !open && !(hasChildren && mine.length === 0))
 			add(
 				'no-evidence',
 				'missing',
@@ -299,18 +319,19 @@ export function verificationStates(
 		}
 		const blockers = [...own, ...childBlockers];
 		const state = stateOfBlockers(blockers) ?? 'verified';
+		const direct = directMethods(f);
 		const how: HowVerified | null =
 			state !== 'verified'
 				? null
 				: kids.length === 0
 					? 'directly'
-					: f.methods.length === 0
+					: direct.length === 0
 						? 'through-children'
 						: 'both';
 		const look = COMBINED_LOOK[state];
 		const s = {
 			state,
-			label: how ? verifiedLabel(f.methods, how) : look.label,
+			label: how ? verifiedLabel(direct, how) : look.label,
 			symbol: look.symbol,
 			tone: look.tone,
 			analysis: analysisStateOf({ specId: f.spec?.id ?? null, modelVersionId: f.modelVersionId, run: f.run }),

@@ -182,10 +182,30 @@ describe('roll-up through the requirement tree', () => {
 		});
 	});
 
-	it('a parent whose own method is unsatisfied is not verified through its children', () => {
+	it('a parent leaves the methods it has nothing of its own for to its children', () => {
 		const c = req();
-		const parent = req({ methods: ['analysis'], spec: null, run: null, children: [c.id] });
-		expect(evaluate([parent, c]).get(parent.id)?.state).toBe('not-covered');
+		// Analysis and test named, no specification or evidence of its own: covered through c.
+		const leaves = req({ methods: ['analysis', 'test'], spec: null, run: null, children: [c.id] });
+		// Its own analysis did not prove it: that blocks, whatever the children say.
+		const own = req({
+			methods: ['analysis'],
+			run: { id: 5, status: 'done', verdict: 'fail' },
+			children: [c.id]
+		});
+		// Its own test evidence awaits review: pending.
+		const review = req({
+			methods: ['analysis', 'test'],
+			evidence: [{ method: 'test', decision: null }],
+			children: [c.id]
+		});
+		const out = evaluate([leaves, own, review, c]);
+		expect(out.get(leaves.id)).toMatchObject({
+			state: 'verified',
+			how: 'through-children',
+			label: 'Verified through derived requirements'
+		});
+		expect(out.get(own.id)?.state).toBe('not-proved');
+		expect(out.get(review.id)?.state).toBe('pending');
 	});
 
 	it('a child not proved shows on every ancestor, naming it', () => {
