@@ -213,7 +213,7 @@ export function ownBlockers(f: RequirementFacts, engineVersion: string, hasChild
 			add(
 				'not-applicable',
 				'not-applicable',
-				`The criterion does not apply: ${na?.precondition ?? 'a precondition of the criterion fails'}${na?.point ? ` (operating point "${na.point}")` : ''}.${na?.remedy ? ` ${na.remedy}` : ''}`
+				`Criterion not applicable: its precondition "${na?.precondition ?? 'unnamed'}" does not hold${na?.point ? ` at the operating point "${na.point}"` : ''}; this is not a proof of instability.${na?.remedy ? ` ${na.remedy}` : ''}`
 			);
 			break;
 		}

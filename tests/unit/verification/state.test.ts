@@ -134,7 +134,7 @@ describe('combined state', () => {
 				status: 'done',
 				verdict: 'fail',
 				notApplicable: {
-					precondition: 'the plant is Hurwitz, which the sector case k1 = 0 requires',
+					precondition: 'G is Hurwitz (required by the sector case k1 = 0)',
 					remedy: 'Use k1 > 0.'
 				}
 			}
@@ -144,7 +144,7 @@ describe('combined state', () => {
 		expect(out.get(np.id)?.blockers[0].text).toContain('not a proof of instability');
 		expect(out.get(na.id)).toMatchObject({ state: 'not-applicable', label: 'Criterion not applicable' });
 		expect(out.get(na.id)?.blockers[0].text).toBe(
-			'The criterion does not apply: the plant is Hurwitz, which the sector case k1 = 0 requires. Use k1 > 0.'
+			'Criterion not applicable: its precondition "G is Hurwitz (required by the sector case k1 = 0)" does not hold; this is not a proof of instability. Use k1 > 0.'
 		);
 	});
 

@@ -63,7 +63,7 @@ export function runCircle(plant: Plant, k1: number, k2: number): CheckResult {
 							: `The loop closed with gain k1 = ${fmt(k1)} is unstable (1 + k1 G has a zero with non-negative real part).`;
 				if (k1 === 0)
 					notApplicable = {
-						precondition: 'the plant is Hurwitz, which the sector case k1 = 0 requires',
+						precondition: 'G is Hurwitz (required by the sector case k1 = 0)',
 						remedy:
 							'A loop transformation makes it applicable: a lower bound k1 > 0 that stabilises the plant (the case 0 < k1 < k2 allows unstable plants through the encirclement count), or a model of the plant with its stabilising loop closed.'
 					};

@@ -262,7 +262,7 @@ export function runPopov(plant: Plant, k: number): CheckResult {
 			...(degree(plant.Ns) >= plant.order
 				? {
 						notApplicable: {
-							precondition: 'the plant is strictly proper, which the Popov criterion requires',
+							precondition: 'G is strictly proper (required by the Popov criterion)',
 							remedy: 'The circle criterion applies to plants with a direct feedthrough.'
 						}
 					}
@@ -280,7 +280,7 @@ export function runPopov(plant: Plant, k: number): CheckResult {
 			explanation: reason,
 			reason,
 			notApplicable: {
-				precondition: 'the plant is Hurwitz, which the Popov criterion requires',
+				precondition: 'G is Hurwitz (required by the Popov criterion)',
 				remedy:
 					'A loop transformation makes it applicable: take out a stabilising gain and use the circle criterion with a lower bound k1 > 0, which allows unstable plants.'
 			}
