@@ -311,7 +311,7 @@ describe('comparison of two baselines', () => {
 				`DC-link converter v1 (${mB1.hash.slice(0, 12)})`,
 				`DC-link converter v2 (${mB2.hash.slice(0, 12)})`
 			],
-			['latest verdict', `pass (run ${run2a.id})`, `fail (run ${run2b.id})`],
+			['latest verdict', `pass (run ${run2a.id})`, `not proved (run ${run2b.id})`],
 			[
 				'certified numbers',
 				'certified upper bound 2.5 vs required 1.5',

@@ -1,4 +1,4 @@
-import { stateWords } from '../trace/export';
+import { stateWords, verdictWords } from '../trace/export';
 import type { Snapshot, SnapshotRequirement } from '../trace/service';
 
 // What changed between two manifests (two baselines, or a baseline and the current state), keyed by
@@ -33,9 +33,7 @@ export interface Comparison {
 }
 
 const verdictOf = (r: SnapshotRequirement) =>
-	r.latestRun
-		? `${r.latestRun.status === 'error' ? 'engine error' : (r.latestRun.verdict ?? '')} (run ${r.latestRun.id})`
-		: 'none';
+	r.latestRun ? `${verdictWords(r.latestRun.status, r.latestRun.verdict)} (run ${r.latestRun.id})` : 'none';
 const numbersOf = (r: SnapshotRequirement) => r.latestRun?.numbers.text ?? '';
 const modelOf = (r: SnapshotRequirement) =>
 	r.model ? `${r.model.name} v${r.model.version ?? '?'} (${(r.model.hash ?? '').slice(0, 12)})` : 'none';
