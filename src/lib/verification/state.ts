@@ -172,6 +172,27 @@ export function directMethods(f: RequirementFacts): string[] {
 	);
 }
 
+// The consistency check is the costly part of a state (regular expressions over the statement); the
+// same statement and specification give the same answer, so answers are remembered (bounded).
+const disagreements = new Map<string, string | null>();
+function disagreement(statement: string, spec: NonNullable<RequirementFacts['spec']>): string | null {
+	const key = `${statement}\u0000${JSON.stringify(spec.check)}\u0000${spec.requiredMargin}`;
+	let v = disagreements.get(key);
+	if (v === undefined) {
+		const c = checkConsistency(statement, {
+			check: spec.check as never,
+			requiredMargin: spec.requiredMargin
+		});
+		v =
+			c.status === 'mismatch'
+				? (c.findings.find((x) => x.kind === 'mismatch')?.message ?? 'their numbers differ.')
+				: null;
+		if (disagreements.size >= 50_000) disagreements.clear();
+		disagreements.set(key, v);
+	}
+	return v;
+}
+
 /**
  * The blockers of a requirement's own (not its children's). A requirement with derived requirements
  * may leave a method it names to them: a method it has nothing of its own for (no specification, no
@@ -181,16 +202,9 @@ export function ownBlockers(f: RequirementFacts, engineVersion: string, hasChild
 	const out: Blocker[] = [];
 	const add = (kind: BlockerKind, weight: Weight, text: string) => out.push({ kind, weight, text });
 	if (f.spec) {
-		const c = checkConsistency(f.statement, {
-			check: f.spec.check as never,
-			requiredMargin: f.spec.requiredMargin
-		});
-		if (c.status === 'mismatch')
-			add(
-				'disagreement',
-				'blocked',
-				`The statement and the specification disagree: ${c.findings.find((x) => x.kind === 'mismatch')?.message ?? 'their numbers differ.'}`
-			);
+		const mismatch = disagreement(f.statement, f.spec);
+		if (mismatch !== null)
+			add('disagreement', 'blocked', `The statement and the specification disagree: ${mismatch}`);
 	}
 	for (const word of [...new Set(placeholdersIn(f.statement).map((p) => p.word))])
 		add('placeholder', 'blocked', `The statement still holds the placeholder "${word}".`);
