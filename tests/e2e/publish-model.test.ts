@@ -45,7 +45,7 @@ async function shownState(page: Page): Promise<string | null> {
 }
 
 describe('publishing a model version in the browser', () => {
-	it('previews poles and the Nyquist plot, publishes, and the requirement goes pending then failing', async () => {
+	it('previews poles and the Nyquist plot, publishes, and the requirement goes pending then not proved', async () => {
 		const team = await createTeam();
 		const model = await createModel(team.project.id, {
 			ownerId: team.users.analyst.id,

@@ -177,7 +177,15 @@ console.log(
 		matrix: Object.fromEntries(
 			matrix.map((r) => [
 				r.id,
-				{ state: r.state, words: stateWords(r), identifier: r.identifier, blockers: r.blockers }
+				{
+					state: r.state,
+					words: stateWords(r),
+					identifier: r.identifier,
+					blockers: r.blockers,
+					methods: r.methods,
+					title: r.title,
+					acceptedEvidence: r.evidence.accepted
+				}
 			])
 		),
 		manifest: Object.fromEntries(snap.requirements.map((r) => [r.id, r.state])),

@@ -35,7 +35,18 @@ let out: {
 	levels: Record<string, string>;
 	links: { child_id: number; parent_id: number }[];
 	service: Record<string, { state: string; how: string | null; label: string; blockers: Blocker[] }>;
-	matrix: Record<string, { state: string; words: string; identifier: string; blockers: Blocker[] }>;
+	matrix: Record<
+		string,
+		{
+			state: string;
+			words: string;
+			identifier: string;
+			blockers: Blocker[];
+			methods: string[];
+			title: string;
+			acceptedEvidence: number;
+		}
+	>;
 	manifest: Record<string, string>;
 	xlsx: Record<string, string>;
 	cover: string[];
@@ -153,6 +164,18 @@ describe('the demo, issue 12 situations', () => {
 			const e = everywhere(Number(id));
 			expect([e.matrix, e.manifest], out.matrix[id].identifier).toEqual([e.service, e.service]);
 			expect(e.xlsx).toBe(e.words);
+		}
+	});
+
+	it('a state names only the methods the requirement lists (the accepted elevon report is not claimed)', () => {
+		const elevon = Object.values(out.matrix).find((r) => r.title === 'Elevon loop circle criterion')!;
+		expect(elevon.methods).toEqual(['analysis']);
+		expect(elevon.acceptedEvidence).toBe(1);
+		expect(elevon.words).not.toMatch(/test/);
+		for (const [id, r] of Object.entries(out.matrix)) {
+			const label = out.service[id].label;
+			for (const m of ['analysis', 'test', 'inspection', 'demonstration'])
+				if (!r.methods.includes(m)) expect(label, r.identifier).not.toMatch(new RegExp(`\\b${m}\\b`));
 		}
 	});
 
