@@ -37,7 +37,7 @@ async function shownState(page: Page): Promise<string | null> {
 }
 
 describe('publishing a model version in the browser', () => {
-	it('previews poles and the Nyquist plot, publishes, and the requirement goes pending then failing', async () => {
+	it('previews poles and the Nyquist plot, publishes, and the requirement goes pending then not proved', async () => {
 		const team = await createTeam();
 		const model = await createModel(team.project.id, {
 			ownerId: team.users.analyst.id,
@@ -88,11 +88,11 @@ describe('publishing a model version in the browser', () => {
 					},
 					{ timeout: 30_000, interval: 1_000 }
 				)
-				.toBe('failing');
+				.toBe('not-proved');
 			// The header badge follows the panel, without a reload.
 			if (live) {
 				const header = page.locator('h1 + p [data-state]').first();
-				await expect.poll(() => header.getAttribute('data-state'), { timeout: 10_000 }).toBe('failing');
+				await expect.poll(() => header.getAttribute('data-state'), { timeout: 10_000 }).toBe('not-proved');
 			}
 		} finally {
 			resumeHarnessWorker();

@@ -271,18 +271,16 @@ export async function createRun(
 	}
 ) {
 	const db = testDb();
-	const r = await db('requirements as r')
-		.join('stability_specs as s', 's.id', 'r.current_spec_id')
-		.join('models as m', 'm.id', 's.model_id')
-		.join('model_versions as mv', function () {
-			this.on('mv.model_id', 'm.id').andOn(
-				db.raw(
-					'(case when s.model_version_id is null then mv.version = m.latest_version else mv.id = s.model_version_id end)'
-				)
-			);
-		})
-		.where('r.id', requirementId)
-		.first('r.project_id', 'r.current_revision', 's.id as spec_id', 'mv.id as mv_id', 'mv.content_hash');
+	// The model version in force: the view requirement_inputs (migration 20261202100000).
+	const r = await db('requirement_inputs')
+		.where('requirement_id', requirementId)
+		.first(
+			'project_id',
+			'requirement_revision as current_revision',
+			'spec_id',
+			'model_version_id as mv_id',
+			'model_hash as content_hash'
+		);
 	const status = o.status ?? 'done';
 	const finished = status === 'done' || status === 'error';
 	const result = o.result === undefined ? (o.verdict ? { verdict: o.verdict, numbers: {} } : null) : o.result;
@@ -319,6 +317,7 @@ export async function createEvidence(
 		review?: 'accepted' | 'rejected';
 		reviewer?: { id: number; email: string };
 		content?: string;
+		method?: 'test' | 'inspection' | 'demonstration';
 	} = {}
 ) {
 	const db = testDb();
@@ -331,7 +330,7 @@ export async function createEvidence(
 				revision: 1,
 				title: o.title ?? 'Rig frequency response',
 				kind: 'frequency-response',
-				method: 'test',
+				method: o.method ?? 'test',
 				original_name: 'rig-response.csv',
 				storage_key: `test/${unique('k')}/rig-response.csv`,
 				content_type: 'text/csv',

@@ -4,7 +4,9 @@
 //             "How to Write a Good Requirement" (checklist; wording recalled from memory).
 //   [INCOSE]  INCOSE Guide to Writing Requirements (v3), rule numbers from memory.
 //   [EARS]    Mavin, Wilkinson, Harwood, Novak: "Easy Approach to Requirements Syntax (EARS)", RE'09.
-// Only placeholders (TBD / TBR / TBS) are blockers, and only of approval; everything else is a hint.
+// Only placeholders (TBD, TBR, TBS, TBC, TBA: src/lib/verification/placeholders.ts) block approval;
+// everything else is a hint.
+import { placeholderPattern } from '../verification/placeholders';
 
 export type HintSeverity = 'hint' | 'blocker';
 
@@ -291,8 +293,9 @@ function computeHints(statement: string): QualityHint[] {
 		add('shall-not-will', f, `${why}: use "shall".`);
 	}
 
-	// Placeholders block approval and any baseline ([NASA-C]: "TBD/TBR items are tracked and closed").
-	for (const f of findAll(text, /\b(?:TBD|TBR|TBS|TBC|TBA)\b/g)) {
+	// Placeholders block approval and any baseline ([NASA-C]: "TBD/TBR items are tracked and closed");
+	// the one pattern is src/lib/verification/placeholders.ts.
+	for (const f of findAll(text, placeholderPattern())) {
 		add(
 			'placeholder',
 			f,

@@ -59,7 +59,7 @@ function gainTemplate(db: number): SpecTemplate {
 		explanation:
 			`A loop gain uncertain by ±${db} dB around nominal lies in the sector [10^(−${db}/20), 10^(${db}/20)]. ` +
 			`The circle criterion on that sector also guarantees about ${pm.toFixed(1)}° of phase margin ` +
-			`(arccos(2 / (k + 1/k)), DOMAIN.md §9). Bounds rounded outward.`,
+			`(arccos(2 / (k + 1/k)): where the disk of Khalil, Nonlinear Systems, 3rd ed., section 7.1 meets the unit circle). Bounds rounded outward.`,
 		check: { type: 'circle', sector },
 		statement: `The loop shall remain absolutely stable for every loop gain in [${sector[0]}, ${sector[1]}] times nominal (±${db} dB).`
 	};
@@ -72,7 +72,7 @@ export const SPEC_TEMPLATES: SpecTemplate[] = [
 		id: 'saturation-circle',
 		label: 'Unit saturation or dead-zone → circle [0, 1]',
 		explanation:
-			'A saturation or a dead-zone of unit slope lies in the sector [0, 1] (DOMAIN.md §5; Khalil, Nonlinear ' +
+			'A saturation or a dead-zone of unit slope lies in the sector [0, 1] (Khalil, Nonlinear ' +
 			'Systems, 3rd ed., section 7.1). The circle criterion also covers time-varying elements in that sector.',
 		check: { type: 'circle', sector: [0, 1] },
 		statement: 'The loop shall remain absolutely stable with the actuator saturation in the sector [0, 1].'
@@ -92,7 +92,7 @@ export const SPEC_TEMPLATES: SpecTemplate[] = [
 		label: 'Gain −50 %/+80 % of nominal → circle [0.5, 1.8]',
 		explanation:
 			'An actuator gain known to within −50 %/+80 % of nominal lies in [0.5, 1.8] times the nominal gain ' +
-			'(DOMAIN.md §5).',
+			'(the sector condition k1 y² ≤ y φ(y) ≤ k2 y², Khalil, Nonlinear Systems, 3rd ed., section 7.1).',
 		check: { type: 'circle', sector: sectorOfPercent(50, 80) },
 		statement:
 			'The loop shall remain absolutely stable for every actuator gain in [0.5, 1.8] times nominal (−50 %/+80 %).'
@@ -102,7 +102,8 @@ export const SPEC_TEMPLATES: SpecTemplate[] = [
 		label: 'Classical margins 6 dB / 45°',
 		explanation:
 			'Gain margin at least 6 dB and phase margin at least 45° for a single loop: the widely cited figure, traced ' +
-			'to MIL-F-9490D (succeeded by SAE AS94900), DOMAIN.md §9.',
+			'to MIL-F-9490D, Flight Control Systems: Design, Installation and Test of Piloted Aircraft (succeeded by ' +
+			'SAE AS94900); common practice.',
 		check: { type: 'margins', minGainMarginDb: 6, minPhaseMarginDeg: 45 },
 		statement: 'The loop shall have at least 6 dB of gain margin with at least 45° of phase margin.'
 	},
@@ -110,8 +111,8 @@ export const SPEC_TEMPLATES: SpecTemplate[] = [
 		id: 'margins-4.5-30',
 		label: 'Margins 4.5 dB / 30° (modes below 0.06 Hz)',
 		explanation:
-			'The lower MIL-F-9490D tier for modes below 0.06 Hz (from memory in DOMAIN.md §9: confirm against the ' +
-			'standard before relying on it).',
+			'The lower MIL-F-9490D tier for modes below 0.06 Hz (quoted from memory: confirm against MIL-F-9490D ' +
+			'or SAE AS94900 before relying on it).',
 		check: { type: 'margins', minGainMarginDb: 4.5, minPhaseMarginDeg: 30 },
 		statement: 'The loop shall have at least 4.5 dB of gain margin with at least 30° of phase margin.'
 	},
@@ -119,8 +120,8 @@ export const SPEC_TEMPLATES: SpecTemplate[] = [
 		id: 'margins-8-60',
 		label: 'Margins 8 dB / 60° (above the first aeroelastic mode)',
 		explanation:
-			'The upper MIL-F-9490D tier for modes above the first aeroelastic mode (from memory in DOMAIN.md §9: ' +
-			'confirm against the standard before relying on it).',
+			'The upper MIL-F-9490D tier for modes above the first aeroelastic mode (quoted from memory: confirm ' +
+			'against MIL-F-9490D or SAE AS94900 before relying on it).',
 		check: { type: 'margins', minGainMarginDb: 8, minPhaseMarginDeg: 60 },
 		statement: 'The loop shall have at least 8 dB of gain margin with at least 60° of phase margin.'
 	},
@@ -129,7 +130,7 @@ export const SPEC_TEMPLATES: SpecTemplate[] = [
 		label: 'Passive driving point → positive real',
 		explanation:
 			'Driving-point functions of passive networks (force to velocity, voltage to current) are positive real; ' +
-			'with dissipation strictly so (DOMAIN.md §5; Khalil, Lemma 6.1).',
+			'with dissipation strictly so (Khalil, Nonlinear Systems, 3rd ed., section 6.1 and Lemma 6.1).',
 		check: { type: 'positive-real' },
 		statement: 'The converter admittance shall be positive real.'
 	}

@@ -33,6 +33,11 @@ export interface CheckResult {
 	/** Why the verdict is inconclusive (or which condition decided a fail). */
 	reason?: string;
 	assumptions?: string;
+	/**
+	 * Set when the verdict is not a pass because a precondition of the criterion fails (not its condition):
+	 * which precondition, and what would make the criterion applicable. Absent otherwise.
+	 */
+	notApplicable?: { precondition: string; remedy: string };
 }
 
 /** Encode a number for JSON under the Infinity convention above; NaN becomes null. */

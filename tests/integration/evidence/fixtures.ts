@@ -9,7 +9,7 @@ import { Client } from '../../helpers/http';
 
 export async function createRequirement(
 	projectId: number,
-	opts: { identifier?: string; title?: string } = {}
+	opts: { identifier?: string; title?: string; methods?: string[] } = {}
 ) {
 	const db = testDb();
 	const number = Math.floor(Math.random() * 1e9);
@@ -22,7 +22,7 @@ export async function createRequirement(
 		statement: 'The loop shall remain absolutely stable for every actuator gain in the sector.',
 		level: 'loop',
 		assurance_level: 'B',
-		methods: ['analysis', 'test'],
+		methods: opts.methods ?? ['analysis', 'test'],
 		status: 'draft',
 		content_hash: createHash('sha256').update(identifier).digest('hex')
 	});

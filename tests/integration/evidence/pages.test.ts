@@ -121,7 +121,7 @@ describe('evidence pages', () => {
 	});
 
 	it('review by a certifier freezes the evidence and makes the requirement verified by test', async () => {
-		const req = await createRequirement(team.project.id);
+		const req = await createRequirement(team.project.id, { methods: ['test'] });
 		const res = await postForm(
 			engineer,
 			api(),
@@ -132,7 +132,7 @@ describe('evidence pages', () => {
 		);
 		const rec = await res.json();
 		const state = async () =>
-			(await (await engineer.get(`${api()}?requirement=${req.id}`)).json()).combined.state;
+			(await (await engineer.get(`${api()}?requirement=${req.id}`)).json()).requirement.state;
 		expect(await state()).toBe('pending');
 
 		const page = `/p/${team.project.key}/evidence/${rec.id}`;
@@ -149,7 +149,9 @@ describe('evidence pages', () => {
 			revision: '1'
 		});
 		expect(ok.type).toBe('success');
-		expect(await state()).toBe('verified-test-only');
+		expect(await state()).toBe('verified');
+		const body = await (await engineer.get(`${api()}?requirement=${req.id}`)).json();
+		expect(body.requirement).toMatchObject({ label: 'Verified by test', evidence: { test: 'accepted' } });
 
 		const row = await testDb()('evidence_reviews as r')
 			.join('evidence_files as f', 'f.id', 'r.evidence_file_id')

@@ -14,7 +14,7 @@ import {
 import { decodeDevalue, signedIn, type Client } from '../../helpers/http';
 import { allMail, expectMailTo, mailTo } from '../../helpers/mail';
 import { enqueueForModelVersion } from '../../../src/lib/server/analyses/queue';
-import { analysisStates } from '../../../src/lib/server/analyses/state';
+import { analysisStates } from '../../../src/lib/server/verification/service';
 import { closeDb } from '../../../src/lib/server/db';
 import { runJobPolicy, stopBoss } from '../../../src/lib/server/jobs/boss';
 import { processRun } from '../../../src/lib/server/analyses/run';
@@ -141,7 +141,7 @@ describe('publishing a model version', () => {
 		await settled([pass, fail]);
 		const states = await analysisStates(testDb(), [pass, fail]);
 		expect(states.get(pass)?.state).toBe('verified');
-		expect(states.get(fail)?.state).toBe('failing');
+		expect(states.get(fail)?.state).toBe('not-proved');
 		const [rp, rf] = await runsOf([pass, fail]);
 		for (const r of [rp, rf]) {
 			expect(r.status).toBe('done');
@@ -202,7 +202,7 @@ describe('publishing a model version', () => {
 		const res = await analyst.get(`/api/v1/requirements/${fail}/analyses`, { accept: 'application/json' });
 		expect(res.status).toBe(200);
 		const a = await res.json();
-		expect(a.state.state).toBe('failing');
+		expect(a.state.state).toBe('not-proved');
 		expect(a.latest.verdict).toBe('fail');
 		expect(a.latest.model.hash).toBe(body.contentHash);
 		expect(a.latest.curves.points[0].label).toBe('nominal');
@@ -423,9 +423,9 @@ describe('verdict-change mail', () => {
 		const v2 = await publish(modelId, points(CUBE), 'v2 adds two lags');
 		await settled([r1, r2, r3]);
 		expect([...(await analysisStates(testDb(), [r1, r2, r3])).values()].map((s) => s.state)).toEqual([
-			'failing',
-			'failing',
-			'failing'
+			'not-proved',
+			'not-proved',
+			'not-proved'
 		]);
 		const mA = await expectMailTo(ownerA.email, { after: base.a });
 		const mB = await expectMailTo(ownerB.email, { after: base.b });
@@ -442,7 +442,7 @@ describe('verdict-change mail', () => {
 		expect(mA.text).not.toContain(ids[1]);
 		expect(mB.text).toContain(ids[1]);
 		for (const id of ids) expect(mM.text).toContain(id);
-		expect(mA.text).toMatch(/verified by analysis -> failing/);
+		expect(mA.text).toMatch(/verified by analysis -> not proved/);
 		expect(mA.text).toMatch(new RegExp(`/p/${team.project.key}/requirements/${r1}`));
 		expect(mM.subject).toMatch(/3 verdicts changed/);
 		expect(
@@ -457,7 +457,7 @@ describe('verdict-change mail', () => {
 		await publish(modelId, points(LAG), 'v3 back to the single lag');
 		await settled([r1, r2, r3]);
 		const back = await expectMailTo(ownerB.email, { after: base.b + 1 });
-		expect(back.text).toMatch(/failing -> verified by analysis/);
+		expect(back.text).toMatch(/not proved -> verified by analysis/);
 		await new Promise((r) => setTimeout(r, 2500));
 		expect(await count(ownerA.email)).toBe(base.a + 2);
 		expect(await count(ownerB.email)).toBe(base.b + 2);

@@ -184,9 +184,21 @@ describe('what blocks a baseline', () => {
 		expect(res.status).toBe(409);
 		const body = await res.json();
 		expect(body.error.blockers).toEqual([
-			{ identifier: tbd.identifier, title: tbd.title, reasons: ['TBD/TBR in the statement'] },
-			{ identifier: pend.identifier, title: pend.title, reasons: ['Analysis re-run pending'] }
+			{
+				id: tbd.id,
+				identifier: tbd.identifier,
+				title: tbd.title,
+				reasons: ['The statement still holds the placeholder "TBR".']
+			},
+			{
+				id: pend.id,
+				identifier: pend.identifier,
+				title: pend.title,
+				reasons: ['The analysis of the current inputs has not finished.']
+			}
 		]);
+		// One grammatical sentence, said once.
+		expect(body.error.message).toMatch(/^2 requirements block a baseline: /);
 		const stored = await testDb()('baselines').where({ project_id: t.project.id }).count('* as n').first();
 		expect(Number(stored?.n)).toBe(0);
 		// The form shows the same list.
@@ -194,6 +206,32 @@ describe('what blocks a baseline', () => {
 		expect(form.type).toBe('failure');
 		expect(form.status).toBe(409);
 		expect(JSON.stringify(form.data)).toContain(tbd.identifier);
+		// The page: the blocker is a link to the requirement, the message is there once, the button is off.
+		const html = await (await c.get(`/p/${t.project.key}/baselines`, { accept: 'text/html' })).text();
+		expect(html).toContain(`href="/p/${t.project.key}/requirements/${tbd.id}"`);
+		expect(html.match(/requirements block a baseline/g)?.length).toBe(1);
+		expect(html).toMatch(/<button class="btn" disabled[^>]*>Freeze baseline<\/button>/);
+	});
+
+	it('one placeholder of any kind the quality rules know blocks it (TBS too)', async () => {
+		const t = await createTeam();
+		const c = await signedIn(t.users.certifier.email, t.users.certifier.password);
+		const r = await createRequirement(t.project.id, {
+			statement: 'The loop shall be stable for gains up to TBS.',
+			methods: ['inspection']
+		});
+		const res = await c.json(`/api/v1/projects/${t.project.key}/baselines`, 'POST', { label: 'blocked' });
+		expect(res.status).toBe(409);
+		const body = await res.json();
+		expect(body.error.message).toMatch(/^1 requirement blocks a baseline: /);
+		expect(body.error.blockers).toEqual([
+			{
+				id: r.id,
+				identifier: r.identifier,
+				title: r.title,
+				reasons: ['The statement still holds the placeholder "TBS".']
+			}
+		]);
 	});
 
 	it('an empty name is a field error', async () => {
@@ -220,7 +258,12 @@ describe('comparison of two baselines', () => {
 		const r1 = await createRequirement(pid, { title: 'Governor stability', level: 'system' });
 		await createSpec(r1.id, { modelId: mA.id, check: { type: 'popov', sector: [0, 2] } });
 		await run(r1.id, 'pass', 3);
-		const r2 = await createRequirement(pid, { title: 'Converter sector', level: 'subsystem' });
+		const r2 = await createRequirement(pid, {
+			title: 'Converter sector',
+			level: 'subsystem',
+			statement:
+				'The converter loop shall remain absolutely stable for every time-invariant gain in the sector [0, 1.5].'
+		});
 		await linkRequirements(r2.id, r1.id);
 		await createSpec(r2.id, { modelId: mB.id, check: { type: 'popov', sector: [0, 1.5] } });
 		const run2a = await run(r2.id, 'pass', 2.5);
@@ -268,13 +311,13 @@ describe('comparison of two baselines', () => {
 				`DC-link converter v1 (${mB1.hash.slice(0, 12)})`,
 				`DC-link converter v2 (${mB2.hash.slice(0, 12)})`
 			],
-			['latest verdict', `pass (run ${run2a.id})`, `fail (run ${run2b.id})`],
+			['latest verdict', `pass (run ${run2a.id})`, `not proved (run ${run2b.id})`],
 			[
 				'certified numbers',
 				'certified upper bound 2.5 vs required 1.5',
 				'certified upper bound 1.2 vs required 1.5'
 			],
-			['state', 'Verified by analysis only', 'Failing']
+			['state', '✓ Verified by analysis', '✕ Not proved']
 		]);
 		expect(changed[r3.identifier]).toEqual([
 			['revision', '1', '2'],
@@ -285,7 +328,7 @@ describe('comparison of two baselines', () => {
 			],
 			['derived from', '', r1.identifier],
 			['evidence', `#${ev.id} r1 awaiting review`, `#${ev.id} r1 accepted`],
-			['state', 'Pending', 'Verified by test only']
+			['state', '… Pending', '✓ Verified by test']
 		]);
 		expect(comparison.modelVersions).toEqual({
 			added: [`DC-link converter v2 (${mB2.hash.slice(0, 12)})`],

@@ -1,10 +1,10 @@
 import ExcelJS from 'exceljs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { CAUTION_TEXT } from '../../../src/lib/caution';
-import { analysisStates } from '../../../src/lib/server/analyses/state';
-import { combinedStates } from '../../../src/lib/server/evidence/state';
 import type { MatrixRow } from '../../../src/lib/server/trace/service';
+import { analysisStates, verificationOf } from '../../../src/lib/server/verification/service';
 import { ENGINE_VERSION } from '../../../src/lib/stability/index';
+import { ROLL_UP_RULE } from '../../../src/lib/verification/index';
 import { closeTestDb, testDb } from '../../factories';
 import { signedIn, type Client } from '../../helpers/http';
 import { buildScenario } from './scenario';
@@ -43,13 +43,16 @@ describe('trace matrix API', () => {
 		for (const r of body.rows) expect(r.analysisState).toBe(theirs.get(r.id)?.state);
 	});
 
-	it('agrees with combinedStates() (the evidence module) on every requirement', async () => {
+	it('agrees with verificationOf() asked for single requirements (the subtree read) on every one', async () => {
 		const body = await page('?limit=50');
-		const theirs = await combinedStates(
-			testDb(),
-			body.rows.map((r) => r.id)
-		);
-		for (const r of body.rows) expect(r.state, r.identifier).toBe(theirs.get(r.id)?.state);
+		for (const r of body.rows) {
+			const theirs = (await verificationOf(testDb(), { requirementIds: [r.id] })).get(r.id)!;
+			expect(r.state, r.identifier).toBe(theirs.state);
+			expect(r.stateLabel, r.identifier).toBe(theirs.label);
+			expect(r.blockers.map((b) => b.text)).toEqual(theirs.blockers.map((b) => b.text));
+		}
+		for (const [id, label] of Object.entries(s.expectedLabels))
+			expect(body.rows.find((r) => r.identifier === id)?.stateLabel).toBe(label);
 	});
 
 	it('carries links, model version, certified numbers, evidence and open items', async () => {
@@ -67,15 +70,25 @@ describe('trace matrix API', () => {
 		expect(by[r1.identifier].latestRun.numbers).toMatchObject({ certified: 3.125, required: 2.4 });
 		expect(by[r1.identifier].evidence).toEqual({ count: 1, accepted: 1, rejected: 0, unreviewed: 0 });
 		expect(by[r4.identifier].evidence).toEqual({ count: 2, accepted: 0, rejected: 1, unreviewed: 1 });
-		expect(by[r4.identifier].openItems).toEqual(['tbd', 'rejected', 'unreviewed', 'no-evidence']);
-		expect(by[r3.identifier].openItems).toEqual(['pending']);
+		expect(by[r4.identifier].blockers.map((b) => b.kind)).toEqual([
+			'placeholder',
+			'rejected-evidence',
+			'open-review'
+		]);
+		expect(by[r3.identifier].blockers.map((b) => b.kind)).toEqual(['pending-run']);
+		// r1 names each derived requirement where the trouble starts, with a link target.
+		expect(by[r1.identifier].blockers.map((b) => [b.kind, b.ref?.identifier])).toEqual([
+			['child-not-verified', r2.identifier],
+			['child-not-verified', r3.identifier],
+			['child-not-verified', r4.identifier]
+		]);
 		expect(by[s.reqs.r6.identifier].latestRun.numbers.text).toBe('GM 12.5 dB (min 6), PM 60 deg (min 45)');
 	});
 
 	it('filters by state, level, method, owner and text, sorts and pages', async () => {
 		const { r1, r2, r3, r4, r5, r6, r7 } = s.reqs;
 		const ids = (b: { rows: { identifier: string }[] }) => b.rows.map((r) => r.identifier);
-		expect(ids(await page('?state=failing,pending'))).toEqual([r2.identifier, r3.identifier, r4.identifier]);
+		expect(ids(await page('?state=not-proved,pending'))).toEqual([r2.identifier, r3.identifier]);
 		expect(ids(await page('?level=system'))).toEqual([r1.identifier, r5.identifier]);
 		expect(ids(await page('?method=test'))).toEqual([r1.identifier, r4.identifier, r5.identifier]);
 		expect(ids(await page(`?owner=${s.team.users.engineer.id}`))).toEqual([r1.identifier, r2.identifier]);
@@ -83,7 +96,8 @@ describe('trace matrix API', () => {
 		expect(ids(await page('?q=TBD'))).toEqual([r4.identifier]);
 		expect(ids(await page('?sort=identifier&dir=desc&limit=2'))).toEqual([r7.identifier, r6.identifier]);
 		expect(ids(await page('?state=not-covered'))).toEqual([r7.identifier]);
-		expect(ids(await page('?sort=state&limit=3'))).toEqual([r2.identifier, r3.identifier, r4.identifier]);
+		expect(ids(await page('?sort=state&limit=3'))).toEqual([r2.identifier, r1.identifier, r4.identifier]);
+		expect(ids(await page('?state=verified&sort=state&dir=desc'))).toEqual([r6.identifier, r5.identifier]);
 		const second = await page('?limit=2&offset=2');
 		expect(ids(second)).toEqual([r3.identifier, r4.identifier]);
 		expect(second.total).toBe(7);
@@ -160,6 +174,12 @@ describe('spreadsheet export', () => {
 		expect(by.Baseline).toMatch(/^none/);
 		expect(by['Engine version']).toBe(ENGINE_VERSION);
 		expect(rows.some((r) => text(r.Value) === CAUTION_TEXT)).toBe(true);
+		// The roll-up rule, in the words of the methods page (src/lib/verification ROLL_UP_RULE).
+		for (const line of ROLL_UP_RULE)
+			expect(
+				rows.some((r) => text(r.Value) === line),
+				line
+			).toBe(true);
 	});
 
 	it('the matrix sheet equals the database', async () => {
@@ -198,6 +218,7 @@ describe('spreadsheet export', () => {
 				.orderBy('p.number')
 				.pluck('p.identifier');
 			expect(text(row['Derived from'])).toBe(parents.join(', '));
+			// Specifications here track the latest version (none is pinned).
 			const mv = await db('requirements as r')
 				.join('stability_specs as s', 's.id', 'r.current_spec_id')
 				.join('models as m', 'm.id', 's.model_id')
@@ -222,16 +243,21 @@ describe('spreadsheet export', () => {
 				.orderBy('finished_at', 'desc')
 				.first();
 			const words: Record<string, string> = {
-				pass: 'pass (certified)',
-				fail: 'fail',
+				pass: 'pass',
+				fail: 'not proved',
 				inconclusive: 'inconclusive'
 			};
 			expect(text(row['Latest verdict'])).toBe(run ? words[run.verdict] : '');
 		}
 		const state = Object.fromEntries(rows.map((r) => [text(r.Identifier), text(r.State)]));
-		expect(state[s.reqs.r1.identifier]).toBe('✓✓ Verified by analysis and test');
-		expect(state[s.reqs.r2.identifier]).toBe('✕ Failing');
+		expect(state[s.reqs.r1.identifier]).toBe('! Blocked');
+		expect(state[s.reqs.r2.identifier]).toBe('✕ Not proved');
 		expect(state[s.reqs.r3.identifier]).toBe('… Pending');
+		expect(state[s.reqs.r5.identifier]).toBe('✓ Verified by test');
+		const blockers = Object.fromEntries(rows.map((r) => [text(r.Identifier), text(r.Blockers)]));
+		expect(blockers[s.reqs.r1.identifier]).toContain(
+			`A derived requirement is not verified: ${s.reqs.r2.identifier}`
+		);
 		expect(rows.find((r) => r.Identifier === s.reqs.r1.identifier)).toMatchObject({
 			Certified: 3.125,
 			Required: 2.4
@@ -329,10 +355,9 @@ describe('spreadsheet export', () => {
 		const { rows } = sheet('Open items');
 		const r4 = rows.filter((r) => r.Identifier === s.reqs.r4.identifier).map((r) => r['Open item']);
 		expect(r4).toEqual([
-			'TBD/TBR in the statement',
-			'Rejected evidence',
-			'Evidence awaiting review',
-			'Test named as a method but no accepted evidence'
+			'The statement still holds the placeholder "TBD".',
+			'One test evidence item was rejected.',
+			'One test evidence item awaits review.'
 		]);
 	});
 

@@ -10,8 +10,9 @@ import {
 	linkRequirements
 } from '../../factories';
 
-// A small project whose expected trace-matrix states follow by hand from the rules (issue 4's analysis
-// states, issue 5's combined states): each requirement is built to land in one state.
+// A small project whose expected trace-matrix states follow by hand from the one verification rule
+// (src/lib/verification, issue 12): each requirement is built to land in one state. The tree is
+// r1 <- r2 <- {r3, r4}; r5, r6, r7 stand alone.
 export async function buildScenario() {
 	const team = await createTeam();
 	const pid = team.project.id;
@@ -24,7 +25,9 @@ export async function buildScenario() {
 		level: 'system',
 		assurance: 'A',
 		methods: ['analysis', 'test'],
-		ownerId: eng.id
+		ownerId: eng.id,
+		statement:
+			'The yaw loop shall remain absolutely stable for every time-invariant gain in the sector [0, 2].'
 	});
 	await createSpec(r1.id, {
 		modelId: model.id,
@@ -47,7 +50,9 @@ export async function buildScenario() {
 		title: 'Rudder actuator sector',
 		level: 'subsystem',
 		assurance: 'B',
-		ownerId: eng.id
+		ownerId: eng.id,
+		statement:
+			'The rudder loop shall remain absolutely stable for every actuator gain in the sector [0.5, 4].'
 	});
 	await linkRequirements(r2.id, r1.id);
 	await createSpec(r2.id, { modelId: model.id, check: { type: 'circle', sector: [0.5, 4] } });
@@ -92,7 +97,8 @@ export async function buildScenario() {
 		title: 'Inner loop margins',
 		level: 'loop',
 		assurance: 'D',
-		ownerId: team.users.analyst.id
+		ownerId: team.users.analyst.id,
+		statement: 'The inner loop shall have at least 6 dB of gain margin with at least 45° of phase margin.'
 	});
 	await createSpec(r6.id, {
 		modelId: model.id,
@@ -124,15 +130,22 @@ export async function buildScenario() {
 		runs: { run1, run2 },
 		evidence: { ev1, ev4a, ev4b, ev5 },
 		expectedStates: {
-			[r1.identifier]: 'verified-analysis-and-test',
-			[r2.identifier]: 'failing',
+			// its own analysis and test are satisfied, but its derived r2 is not verified (nor r3, r4 below it)
+			[r1.identifier]: 'blocked',
+			// the circle criterion did not prove it
+			[r2.identifier]: 'not-proved',
 			// no run yet for the current inputs
 			[r3.identifier]: 'pending',
-			// evidence awaiting review
-			[r4.identifier]: 'pending',
-			[r5.identifier]: 'verified-test-only',
-			[r6.identifier]: 'verified-analysis-only',
+			// TBD in the statement, rejected evidence (and evidence awaiting review)
+			[r4.identifier]: 'blocked',
+			[r5.identifier]: 'verified',
+			[r6.identifier]: 'verified',
+			// inspection named, no evidence
 			[r7.identifier]: 'not-covered'
+		} as Record<string, string>,
+		expectedLabels: {
+			[r5.identifier]: 'Verified by test',
+			[r6.identifier]: 'Verified by analysis'
 		} as Record<string, string>
 	};
 }

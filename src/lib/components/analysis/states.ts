@@ -1,21 +1,36 @@
-// How an analysis state is shown: a symbol and words, never colour alone.
-export type AnalysisStateName =
-	'verified' | 'failing' | 'pending' | 'inconclusive' | 'error' | 'not-analysed';
+// How an analysis state and a verdict are shown: the words and symbols are those of
+// src/lib/verification (the one definition); this module only adds the badge classes.
+import {
+	ANALYSIS_LOOK,
+	TONE_CLASS,
+	VERDICT_LOOK as VERDICT_WORDS,
+	type AnalysisState
+} from '../../verification/index';
 
-export const STATE_LOOK: Record<AnalysisStateName, { symbol: string; words: string; cls: string }> = {
-	verified: { symbol: '✓', words: 'Verified by analysis', cls: 'border-ok bg-ok-soft text-ok' },
-	failing: { symbol: '✕', words: 'Failing', cls: 'border-bad bg-bad-soft text-bad' },
-	pending: { symbol: '◌', words: 'Pending re-run', cls: 'border-wait bg-wait-soft text-wait' },
-	inconclusive: { symbol: '?', words: 'Inconclusive', cls: 'border-unsure bg-unsure-soft text-unsure' },
-	error: { symbol: '!', words: 'Analysis error', cls: 'border-bad bg-white text-bad' },
-	'not-analysed': { symbol: '–', words: 'Not analysed', cls: 'border-rule bg-paper text-ink-soft' }
-};
+export type AnalysisStateName = AnalysisState;
 
-export const VERDICT_LOOK: Record<string, { symbol: string; words: string; cls: string }> = {
-	pass: { symbol: '✓', words: 'pass', cls: 'text-ok' },
-	fail: { symbol: '✕', words: 'fail', cls: 'text-bad' },
-	inconclusive: { symbol: '?', words: 'inconclusive', cls: 'text-unsure' }
+export const STATE_LOOK: Record<AnalysisStateName, { symbol: string; words: string; cls: string }> =
+	Object.fromEntries(
+		Object.entries(ANALYSIS_LOOK).map(([k, v]) => [
+			k,
+			{ symbol: v.symbol, words: v.label, cls: TONE_CLASS[v.tone] }
+		])
+	) as Record<AnalysisStateName, { symbol: string; words: string; cls: string }>;
+
+const TEXT_CLASS = {
+	ok: 'text-ok',
+	bad: 'text-bad',
+	wait: 'text-wait',
+	unsure: 'text-unsure',
+	none: 'text-ink-soft'
 };
+export const VERDICT_LOOK: Record<string, { symbol: string; words: string; cls: string }> =
+	Object.fromEntries(
+		Object.entries(VERDICT_WORDS).map(([k, v]) => [
+			k,
+			{ symbol: v.symbol, words: v.label, cls: TEXT_CLASS[v.tone] }
+		])
+	);
 
 /** A number from a result under the engine's Infinity convention. */
 export function fmtNum(v: unknown, digits = 5): string {

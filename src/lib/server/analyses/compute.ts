@@ -69,8 +69,20 @@ function brief(r: CheckResult & { label: string }) {
 		criticalFrequency: r.criticalFrequency ?? null,
 		margin: r.margin ?? null,
 		threshold: r.threshold ?? null,
-		explanation: r.explanation
+		explanation: r.explanation,
+		notApplicable: r.notApplicable ?? null
 	};
+}
+
+/**
+ * The run is "criterion not applicable" when some operating point failed a precondition (the engine's
+ * notApplicable) and no point violated the criterion's condition itself (every failing point is one
+ * whose precondition failed); that point is named.
+ */
+function notApplicableOf(perPoint: (CheckResult & { label: string })[]) {
+	const marked = perPoint.find((p) => p.verdict !== 'pass' && p.notApplicable);
+	if (!marked || perPoint.some((p) => p.verdict === 'fail' && !p.notApplicable)) return null;
+	return { ...marked.notApplicable!, point: perPoint.length > 1 ? marked.label : null };
 }
 
 export function computeRun(inputs: RunInputs): RunOutput {
@@ -113,6 +125,7 @@ export function computeRun(inputs: RunInputs): RunOutput {
 		explanation: agg.explanation,
 		reason: agg.reason ?? null,
 		assumptions: agg.assumptions ?? null,
+		notApplicable: notApplicableOf(agg.perPoint),
 		perPoint: agg.perPoint.map(brief)
 	};
 

@@ -1,4 +1,10 @@
 import { CAUTION_TEXT } from '../../caution';
+import {
+	ANALYSIS_LOOK,
+	analysisStateOf,
+	notApplicableOf,
+	type AnalysisState
+} from '../../verification/index';
 import type { Db } from '../db';
 import { config } from '../config';
 import { enqueueMail } from '../mail';
@@ -15,24 +21,26 @@ import {
 // of them finishes, every requirement whose outcome moved is collected and each person concerned (the
 // requirement's owner, the model's owner) gets one mail listing all of them.
 
-type Outcome = 'pass' | 'fail' | 'inconclusive' | 'error';
-
-export const OUTCOME_WORDS: Record<Outcome, string> = {
-	pass: 'verified by analysis',
-	fail: 'failing',
-	inconclusive: 'inconclusive',
-	error: 'analysis error'
-};
+// A run's outcome is the analysis state it gives (src/lib/verification), in the same words as every page.
+type Outcome = AnalysisState;
+const outcomeWords = (o: Outcome) => ANALYSIS_LOOK[o].label.toLowerCase();
 
 interface FinishedRun {
 	id: number;
 	trigger_ref: string | null;
 }
 
-function outcomeOf(r: { status: string; verdict: string | null }): Outcome | null {
-	if (r.status === 'error') return 'error';
-	if (r.status === 'done' && r.verdict) return r.verdict as Outcome;
-	return null;
+function outcomeOf(r: { status: string; verdict: string | null; not_applicable?: unknown }): Outcome | null {
+	if (r.status !== 'error' && !(r.status === 'done' && r.verdict)) return null;
+	return analysisStateOf({
+		specId: 0,
+		modelVersionId: 0,
+		run: {
+			status: r.status,
+			verdict: r.verdict,
+			notApplicable: notApplicableOf({ notApplicable: r.not_applicable })
+		}
+	});
 }
 
 /**
@@ -56,9 +64,11 @@ export async function afterRunFinished(trx: Db, run: FinishedRun): Promise<numbe
 	for (const g of group) {
 		const to = outcomeOf(g);
 		if (!to) continue;
-		const from = g.prev_status ? outcomeOf({ status: g.prev_status, verdict: g.prev_verdict }) : null;
+		const from = g.prev_status
+			? outcomeOf({ status: g.prev_status, verdict: g.prev_verdict, not_applicable: g.prev_not_applicable })
+			: null;
 		// A first verdict counts as a change unless it is a pass (nothing to act on).
-		if (from === to || (from === null && to === 'pass')) continue;
+		if (from === to || (from === null && to === 'verified')) continue;
 		changes.push({ run: g, from, to });
 	}
 
@@ -78,13 +88,13 @@ export async function afterRunFinished(trx: Db, run: FinishedRun): Promise<numbe
 			const first = list[0].run;
 			const subject =
 				list.length === 1
-					? `[${first.project_key}] ${first.identifier} is now ${OUTCOME_WORDS[list[0].to]}`
+					? `[${first.project_key}] ${first.identifier} is now ${outcomeWords(list[0].to)}`
 					: `[${first.project_key}] ${list.length} verdicts changed after ${first.model_name} v${first.model_version}`;
 			const lines = list.map((c) => {
 				const url = `${config.publicOrigin}/p/${c.run.project_key}/requirements/${c.run.requirement_id}`;
 				return (
 					`- ${c.run.identifier} ${c.run.title}\n` +
-					`  ${c.from ? OUTCOME_WORDS[c.from] : 'not analysed'} -> ${OUTCOME_WORDS[c.to]}` +
+					`  ${outcomeWords(c.from ?? 'not-analysed')} -> ${outcomeWords(c.to)}` +
 					` (model ${c.run.model_name} v${c.run.model_version}${c.run.worst_point ? `, worst operating point "${c.run.worst_point}"` : ''})\n` +
 					`  ${url}`
 				);

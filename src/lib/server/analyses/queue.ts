@@ -52,9 +52,12 @@ export async function enqueueForModelVersion(
 	modelVersionId: number,
 	trigger: Trigger
 ): Promise<number> {
-	return enqueueWhere(trx, { ref: `model-version:${modelVersionId}`, ...trigger }, 'mv.id = ?', [
-		modelVersionId
-	]);
+	return enqueueWhere(
+		trx,
+		{ ref: `model-version:${modelVersionId}`, ...trigger },
+		'ri.model_version_id = ?',
+		[modelVersionId]
+	);
 }
 
 /** Queue runs for every requirement of every project (a new engine version). */

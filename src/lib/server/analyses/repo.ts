@@ -183,18 +183,15 @@ export async function insertRuns(
 	where: string,
 	bindings: unknown[]
 ): Promise<number[]> {
-	// The model version in force: the spec's pinned version, else the model's latest one.
+	// The model version in force is the view requirement_inputs (its one definition).
 	// Retired requirements are not re-verified.
 	const r = await trx.raw(
 		`insert into analysis_runs (project_id, requirement_id, requirement_revision, spec_id, model_version_id,
 				model_hash, engine_version, trigger, trigger_ref, triggered_by)
-			select r.project_id, r.id, r.current_revision, s.id, mv.id, mv.content_hash, ?, ?, ?, ?
+			select r.project_id, r.id, r.current_revision, ri.spec_id, ri.model_version_id, ri.model_hash, ?, ?, ?, ?
 			from requirements r
 			join requirement_revisions rr on rr.requirement_id = r.id and rr.revision = r.current_revision
-			join stability_specs s on s.id = r.current_spec_id
-			join models m on m.id = s.model_id
-			join model_versions mv on mv.model_id = m.id
-				and (case when s.model_version_id is null then mv.version = m.latest_version else mv.id = s.model_version_id end)
+			join requirement_inputs ri on ri.requirement_id = r.id and ri.model_version_id is not null
 			where rr.status <> 'retired' and (${where})
 			order by r.id
 			on conflict (requirement_id, requirement_revision, spec_id, model_version_id, engine_version) do nothing
@@ -202,41 +199,6 @@ export async function insertRuns(
 		[run.engineVersion, run.trigger, run.ref, run.userId, ...bindings] as never[]
 	);
 	return (r.rows as { id: number }[]).map((x) => Number(x.id));
-}
-
-// --- The analysis state of requirements (state.ts words it) --------------------------------------
-
-export interface StateRow {
-	id: number;
-	spec_id: number | null;
-	mv_id: number | null;
-	run_id: number | null;
-	status: string | null;
-	verdict: string | null;
-	result: unknown;
-	finished_at: Date | null;
-}
-
-/** Each requirement with its current inputs and the run of exactly those inputs under this engine. */
-export async function stateRows(
-	db: Db,
-	requirementIds: number[],
-	engineVersion: string
-): Promise<StateRow[]> {
-	return (
-		await db.raw(
-			`select r.id, s.id as spec_id, mv.id as mv_id, ar.id as run_id, ar.status, ar.verdict, ar.result, ar.finished_at
-			from requirements r
-			left join stability_specs s on s.id = r.current_spec_id
-			left join models m on m.id = s.model_id
-			left join model_versions mv on mv.model_id = m.id
-				and (case when s.model_version_id is null then mv.version = m.latest_version else mv.id = s.model_version_id end)
-			left join analysis_runs ar on ar.requirement_id = r.id and ar.requirement_revision = r.current_revision
-				and ar.spec_id = s.id and ar.model_version_id = mv.id and ar.engine_version = ?
-			where r.id = any(?::bigint[])`,
-			[engineVersion, requirementIds] as never[]
-		)
-	).rows;
 }
 
 // --- Claiming and storing (run.ts) ---------------------------------------------------------------
@@ -371,6 +333,8 @@ export interface ChangeRun {
 	trigger: string;
 	prev_status: string | null;
 	prev_verdict: string | null;
+	not_applicable: unknown;
+	prev_not_applicable: unknown;
 }
 
 /**
@@ -386,6 +350,7 @@ export async function changeRuns(
 		await trx.raw(
 			`with g as (select * from analysis_runs where ${byRef ? 'trigger_ref = ?' : 'id = ?'})
 			select g.id, g.requirement_id, g.status, g.verdict, g.worst_point, g.trigger,
+				g.result -> 'notApplicable' as not_applicable, prev.not_applicable as prev_not_applicable,
 				r.identifier, rr.title, rr.owner_id as req_owner, m.owner_id as model_owner, m.name as model_name,
 				mv.version as model_version, p.key as project_key, prev.status as prev_status, prev.verdict as prev_verdict
 			from g
@@ -395,7 +360,7 @@ export async function changeRuns(
 			join models m on m.id = mv.model_id
 			join projects p on p.id = g.project_id
 			left join lateral (
-				select x.status, x.verdict from analysis_runs x
+				select x.status, x.verdict, x.result -> 'notApplicable' as not_applicable from analysis_runs x
 				where x.requirement_id = g.requirement_id and x.status in ('done', 'error')
 					and x.id not in (select id from g) and x.finished_at <= g.finished_at
 				order by x.finished_at desc, x.id desc limit 1

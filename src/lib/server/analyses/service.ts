@@ -2,7 +2,7 @@ import { ENGINE_VERSION } from '../../stability/index';
 import { db } from '../db';
 import { ServiceError } from '../errors';
 import { currentSpec, graphRows, requirementProject, runs, runsOfModelVersion, type RunRow } from './repo';
-import { analysisStates, type AnalysisStateInfo } from './state';
+import { analysisStates, type AnalysisStateInfo } from '../verification/service';
 
 // Reading analysis runs: what the requirement page, the API and the trace graph show.
 

@@ -1,4 +1,4 @@
-import { COMBINED_LABELS } from '../../trace/states';
+import { stateWords, verdictWords } from '../trace/export';
 import type { Snapshot, SnapshotRequirement } from '../trace/service';
 
 // What changed between two manifests (two baselines, or a baseline and the current state), keyed by
@@ -33,9 +33,7 @@ export interface Comparison {
 }
 
 const verdictOf = (r: SnapshotRequirement) =>
-	r.latestRun
-		? `${r.latestRun.status === 'error' ? 'engine error' : (r.latestRun.verdict ?? '')} (run ${r.latestRun.id})`
-		: 'none';
+	r.latestRun ? `${verdictWords(r.latestRun.status, r.latestRun.verdict)} (run ${r.latestRun.id})` : 'none';
 const numbersOf = (r: SnapshotRequirement) => r.latestRun?.numbers.text ?? '';
 const modelOf = (r: SnapshotRequirement) =>
 	r.model ? `${r.model.name} v${r.model.version ?? '?'} (${(r.model.hash ?? '').slice(0, 12)})` : 'none';
@@ -76,7 +74,7 @@ function requirementChanges(
 	push('verdict', 'latest verdict', verdictOf(x), verdictOf(y));
 	push('verdict', 'certified numbers', numbersOf(x), numbersOf(y));
 	push('evidence', 'evidence', evidenceOf(a, x.identifier), evidenceOf(b, y.identifier));
-	push('state', 'state', COMBINED_LABELS[x.state], COMBINED_LABELS[y.state]);
+	push('state', 'state', stateWords(x), stateWords(y));
 	return out;
 }
 

@@ -1,6 +1,6 @@
 import { createHash } from 'node:crypto';
 import { ENGINE_VERSION } from '../../stability/index';
-import { OPEN_ITEM_LABELS } from '../../trace/states';
+import { blocksFreeze, freezeBlockedSentence } from '../../verification/index';
 import { canonical, recordEvent, type Actor } from '../audit';
 import { db } from '../db';
 import { ServiceError } from '../errors';
@@ -22,20 +22,22 @@ export function manifestHash(manifest: Manifest): string {
 }
 
 export interface Blocker {
+	id: number;
 	identifier: string;
 	title: string;
 	reasons: string[];
 }
 
-/** Requirements that may not be frozen: TBD/TBR in the statement, or a re-run still pending. */
+/**
+ * Requirements that may not be frozen: the verification blockers that refuse a freeze (a placeholder in
+ * the statement, a run not finished; src/lib/verification blocksFreeze).
+ */
 export function blockersOf(manifest: Manifest): Blocker[] {
 	const out: Blocker[] = [];
 	for (const r of manifest.requirements) {
 		if (r.status === 'retired') continue;
-		const reasons: string[] = [];
-		if (r.openItems.includes('tbd')) reasons.push(OPEN_ITEM_LABELS.tbd);
-		if (r.openItems.includes('pending')) reasons.push(OPEN_ITEM_LABELS.pending);
-		if (reasons.length) out.push({ identifier: r.identifier, title: r.title, reasons });
+		const reasons = (r.blockers ?? []).filter(blocksFreeze).map((b) => b.text);
+		if (reasons.length) out.push({ id: r.id, identifier: r.identifier, title: r.title, reasons });
 	}
 	return out;
 }
@@ -81,10 +83,10 @@ export async function freeze(actor: Actor, projectId: number, raw: unknown): Pro
 				if (blockers.length) {
 					throw new ServiceError(
 						409,
-						`${blockers.length} requirement${blockers.length === 1 ? '' : 's'} block${blockers.length === 1 ? 's' : ''} a baseline: ${blockers
+						`${freezeBlockedSentence(blockers.length)}: ${blockers
 							.slice(0, 5)
-							.map((b) => `${b.identifier} (${b.reasons.join('; ')})`)
-							.join(', ')}${blockers.length > 5 ? ' …' : ''}.`,
+							.map((b) => `${b.identifier} (${b.reasons.join(' ')})`)
+							.join(', ')}${blockers.length > 5 ? ' …' : ''}`,
 						{},
 						{ blockers }
 					);

@@ -1,10 +1,19 @@
-import { COMBINED_STATES, type CombinedState } from '../../trace/states';
+import {
+	BLOCKER_KINDS,
+	COMBINED_STATES,
+	HOW_VERIFIED,
+	type BlockerKind,
+	type CombinedState,
+	type HowVerified
+} from '../../verification/index';
 import { db } from '../db';
 import { matrixAll, type MatrixRow } from '../trace/service';
 import { points, upsertToday, type CoveragePoint } from './repo';
 
-// The coverage dashboard: how many requirements are in each combined state, by level and by assurance
-// level, what blocks verification, and a daily trend. Today's point is written whenever the dashboard
+// The coverage dashboard: how many requirements are in each verification state (each requirement
+// counted once, src/lib/verification), how the verified ones are verified (directly, through their
+// derived requirements, both), by level and by assurance level, what blocks verification, and a daily
+// trend. Today's point is written whenever the dashboard
 // is computed (page load), so the trend grows from the days someone looked; retired requirements are
 // left out of every count.
 
@@ -15,7 +24,10 @@ export interface Coverage {
 	states: StateCounts;
 	byLevel: { key: string; total: number; states: StateCounts }[];
 	byAssurance: { key: string; total: number; states: StateCounts }[];
-	blocking: { failing: number; pending: number; noEvidence: number; rejectedEvidence: number; unreviewedEvidence: number };
+	/** Verified requirements by how they are verified. */
+	how: Record<HowVerified, number>;
+	/** How many requirements have each kind of blocker. */
+	blocking: Record<BlockerKind, number>;
 	trend: CoveragePoint[];
 }
 
@@ -44,13 +56,12 @@ export function coverageOf(all: MatrixRow[]): Omit<Coverage, 'trend'> {
 		states,
 		byLevel: groupBy(rows, (r) => r.level, ['system', 'subsystem', 'loop']),
 		byAssurance: groupBy(rows, (r) => r.assuranceLevel, ['A', 'B', 'C', 'D', 'E']),
-		blocking: {
-			failing: rows.filter((r) => r.state === 'failing').length,
-			pending: rows.filter((r) => r.state === 'pending').length,
-			noEvidence: rows.filter((r) => r.openItems.includes('no-evidence')).length,
-			rejectedEvidence: rows.filter((r) => r.openItems.includes('rejected')).length,
-			unreviewedEvidence: rows.filter((r) => r.openItems.includes('unreviewed')).length
-		}
+		how: Object.fromEntries(
+			HOW_VERIFIED.map((h) => [h, rows.filter((r) => r.how === h).length])
+		) as Record<HowVerified, number>,
+		blocking: Object.fromEntries(
+			BLOCKER_KINDS.map((k) => [k, rows.filter((r) => r.blockers.some((b) => b.kind === k)).length])
+		) as Record<BlockerKind, number>
 	};
 }
 

@@ -227,25 +227,6 @@ export const evidenceRepo = {
 		return (await q) as ListRow[];
 	},
 
-	/** For each requirement: the current revisions of evidence that verify it, with their review decision. */
-	currentForRequirements: (db: Db, requirementIds: number[]) =>
-		db('evidence_links as l')
-			.join('evidence_files as f', 'f.id', 'l.evidence_file_id')
-			.join('evidence as e', function () {
-				this.on('e.id', 'f.evidence_id').andOn('e.current_revision', 'f.revision');
-			})
-			.leftJoin('evidence_reviews as rv', 'rv.evidence_file_id', 'f.id')
-			.whereIn('l.requirement_id', requirementIds)
-			.select('l.requirement_id', 'e.id as evidence_id', 'f.revision', 'f.kind', 'rv.decision') as Promise<
-			{
-				requirement_id: number;
-				evidence_id: number;
-				revision: number;
-				kind: EvidenceKind;
-				decision: Decision | null;
-			}[]
-		>,
-
 	tolerance: (db: Db, requirementId: number) =>
 		db('evidence_tolerances').where({ requirement_id: requirementId }).first() as Promise<
 			{ requirement_id: number; relative_error: number; phase_deg: number } | undefined
@@ -260,18 +241,16 @@ export const evidenceRepo = {
 			.onConflict('requirement_id')
 			.merge(),
 
-	/** The specification in force and the model version it uses (its own, or the model's latest). */
+	/**
+	 * A requirement's current specification and the model version in force for it (the view
+	 * requirement_inputs, the one definition of that rule).
+	 */
 	specWithModel: (db: Db, specId: number) =>
-		db('stability_specs as s')
-			.join('models as m', 'm.id', 's.model_id')
-			.leftJoin('model_versions as mv', function () {
-				this.on('mv.model_id', 'm.id').andOn(
-					db.raw(
-						'(case when s.model_version_id is null then mv.version = m.latest_version else mv.id = s.model_version_id end)'
-					)
-				);
-			})
-			.where('s.id', specId)
+		db('requirement_inputs as ri')
+			.join('stability_specs as s', 's.id', 'ri.spec_id')
+			.join('models as m', 'm.id', 'ri.model_id')
+			.leftJoin('model_versions as mv', 'mv.id', 'ri.model_version_id')
+			.where('ri.spec_id', specId)
 			.first(
 				's.id as spec_id',
 				's.version as spec_version',

@@ -3,7 +3,7 @@ import { canonical, recordEvent, type Actor } from '../audit';
 import { db } from '../db';
 import { ServiceError, fieldErrors } from '../errors';
 import { enqueueForModelVersion } from '../analyses/queue';
-import { analysisStates } from '../analyses/state';
+import { analysisStates } from '../verification/service';
 import { users } from '../identity/repo';
 import {
 	activeSiteAdmin,

@@ -2,7 +2,12 @@ import { createHash } from 'node:crypto';
 import { checkConsistency } from '../../requirements/consistency';
 import { approvalBlockers, qualityHints } from '../../requirements/quality';
 import { enqueueForRequirement } from '../analyses/queue';
-import { analysisStates, type AnalysisStateInfo } from '../analyses/state';
+import {
+	verificationOf,
+	type AnalysisStateInfo,
+	type RequirementVerification
+} from '../verification/service';
+import { COMBINED_LOOK, type VerificationState } from '../../verification/index';
 import { canonical, historyOf, recordEvent, type Actor, type StoredEvent } from '../audit';
 import { db, readTogether, type Db } from '../db';
 import type { Knex } from 'knex';
@@ -129,9 +134,20 @@ export interface RequirementSummary {
 	specId: number | null;
 	updatedAt: string;
 	analysis: AnalysisStateInfo;
+	/** The one verification state (src/lib/verification): combined state, label, symbol, blockers. */
+	verification: VerificationState;
 }
 
-function summary(v: RequirementView, state: AnalysisStateInfo | undefined): RequirementSummary {
+const NOT_FOUND_STATE: VerificationState = {
+	state: 'not-covered',
+	...COMBINED_LOOK['not-covered'],
+	analysis: 'not-analysed',
+	evidence: {},
+	how: null,
+	blockers: []
+};
+
+function summary(v: RequirementView, rv: RequirementVerification | undefined): RequirementSummary {
 	const changed = new Date(v.updated_at) > new Date(v.created_at) ? v.updated_at : v.created_at;
 	return {
 		id: Number(v.id),
@@ -146,7 +162,19 @@ function summary(v: RequirementView, state: AnalysisStateInfo | undefined): Requ
 		owner: v.owner_id == null ? null : { id: Number(v.owner_id), name: v.owner_name, email: v.owner_email },
 		specId: v.current_spec_id == null ? null : Number(v.current_spec_id),
 		updatedAt: new Date(changed).toISOString(),
-		analysis: state ?? { state: 'not-analysed' }
+		analysis: rv?.analysisInfo ?? { state: 'not-analysed' },
+		verification: rv
+			? {
+					state: rv.state,
+					label: rv.label,
+					symbol: rv.symbol,
+					tone: rv.tone,
+					analysis: rv.analysis,
+					evidence: rv.evidence,
+					how: rv.how,
+					blockers: rv.blockers
+				}
+			: NOT_FOUND_STATE
 	};
 }
 
@@ -155,10 +183,7 @@ export async function listRequirements(
 	filters: ListFilters
 ): Promise<RequirementSummary[]> {
 	const rows = await requirements.list(db(), projectId, filters);
-	const states = await analysisStates(
-		db(),
-		rows.map((r) => Number(r.id))
-	);
+	const states = await verificationOf(db(), { projectId });
 	return rows.map((r) => summary(r, states.get(Number(r.id))));
 }
 
@@ -258,7 +283,10 @@ async function requirementAndSpecs(id: number, withHistory = false) {
 			orderBy: { column: 'seq', desc: true }
 		};
 	}
-	const [rows, states] = await Promise.all([readTogether(db(), parts), analysisStates(db(), [id])]);
+	const [rows, states] = await Promise.all([
+		readTogether(db(), parts),
+		verificationOf(db(), { requirementIds: [id] })
+	]);
 	const v = rows.view[0] as unknown as RequirementView | undefined;
 	if (!v) return null;
 	const around = rows.links as unknown as LinkRows;

@@ -2,14 +2,14 @@ import ExcelJS from 'exceljs';
 import { PassThrough, Readable, type Writable } from 'node:stream';
 import { CAUTION_TEXT, CAUTION_TITLE } from '../../caution';
 import {
-	ANALYSIS_LABELS,
-	COMBINED_LABELS,
-	COMBINED_SYMBOLS,
+	ANALYSIS_LOOK,
+	COMBINED_LOOK,
+	HOW_LABELS,
 	LEVEL_LABELS,
-	OPEN_ITEM_LABELS,
-	type OpenItem
-} from '../../trace/states';
-import type { MatrixRow, Snapshot, SnapshotRequirement } from './service';
+	ROLL_UP_RULE,
+	VERDICT_LOOK
+} from '../../verification/index';
+import type { MatrixBlocker, MatrixRow, Snapshot, SnapshotRequirement } from './service';
 
 // The spreadsheet and CSV exports of a snapshot (the current state or a baseline's manifest). The
 // workbook is written with exceljs's streaming writer straight into the response: rows are committed
@@ -36,15 +36,21 @@ interface SheetColumn<T> {
 }
 
 export function verdictWords(status: string | null | undefined, verdict: string | null | undefined): string {
-	if (status === 'error') return 'engine error';
-	if (verdict === 'pass') return 'pass (certified)';
-	if (verdict === 'fail') return 'fail';
-	if (verdict === 'inconclusive') return 'inconclusive';
-	return '';
+	if (status === 'error') return ANALYSIS_LOOK.error.label.toLowerCase();
+	return VERDICT_LOOK[verdict ?? '']?.label ?? '';
 }
 
-export const stateWords = (r: MatrixRow) => `${COMBINED_SYMBOLS[r.state]} ${COMBINED_LABELS[r.state]}`;
-export const openItemWords = (items: OpenItem[]) => items.map((i) => OPEN_ITEM_LABELS[i]).join('; ');
+// A manifest frozen before the one verification state (loopwarden-snapshot/1) has neither a label nor
+// blockers: its raw state name and open items are written as they were frozen.
+type Frozen = MatrixRow & { openItems?: string[] };
+export const stateWords = (r: MatrixRow) =>
+	`${r.stateSymbol ?? COMBINED_LOOK[r.state]?.symbol ?? ''} ${r.stateLabel ?? COMBINED_LOOK[r.state]?.label ?? r.state}`.trim();
+const blockersOf = (r: Frozen): MatrixBlocker[] =>
+	r.blockers ?? (r.openItems ?? []).map((k) => ({ kind: k as MatrixBlocker['kind'], text: k, ref: null }));
+export const blockerWords = (r: MatrixRow) =>
+	blockersOf(r)
+		.map((b) => b.text)
+		.join(' ');
 const finite = (x: number | null | undefined): Cell =>
 	x === null || x === undefined || !Number.isFinite(x) ? (x === Infinity ? 'infinity' : null) : x;
 
@@ -62,7 +68,12 @@ export const MATRIX_COLUMNS: SheetColumn<MatrixRow>[] = [
 	{ header: 'Model version', width: 9, value: (r) => r.model?.version ?? null },
 	{ header: 'Model SHA-256', width: 20, value: (r) => r.model?.hash ?? '' },
 	{ header: 'State', width: 30, value: stateWords },
-	{ header: 'Analysis state', width: 20, value: (r) => ANALYSIS_LABELS[r.analysisState] },
+	{ header: 'Verified how', width: 24, value: (r) => (r.how ? HOW_LABELS[r.how] : '') },
+	{
+		header: 'Analysis state',
+		width: 20,
+		value: (r) => ANALYSIS_LOOK[r.analysisState]?.label ?? r.analysisState
+	},
 	{
 		header: 'Latest verdict',
 		width: 16,
@@ -73,7 +84,7 @@ export const MATRIX_COLUMNS: SheetColumn<MatrixRow>[] = [
 	{ header: 'Numbers', width: 44, value: (r) => r.latestRun?.numbers.text ?? '' },
 	{ header: 'Evidence', width: 9, value: (r) => r.evidence.count },
 	{ header: 'Accepted evidence', width: 10, value: (r) => r.evidence.accepted },
-	{ header: 'Open items', width: 44, value: (r) => openItemWords(r.openItems) },
+	{ header: 'Blockers', width: 60, value: blockerWords },
 	{ header: 'Last change (UTC)', width: 24, value: (r) => r.lastChange }
 ];
 
@@ -133,12 +144,13 @@ const EVIDENCE_COLUMNS: SheetColumn<EvidenceLine>[] = [
 
 interface OpenLine {
 	r: MatrixRow;
-	item: OpenItem;
+	item: MatrixBlocker;
 }
 const OPEN_COLUMNS: SheetColumn<OpenLine>[] = [
 	{ header: 'Identifier', width: 16, value: (o) => o.r.identifier },
 	{ header: 'Title', width: 40, value: (o) => o.r.title },
-	{ header: 'Open item', width: 44, value: (o) => OPEN_ITEM_LABELS[o.item] },
+	{ header: 'Open item', width: 60, value: (o) => o.item.text },
+	{ header: 'Points at', width: 16, value: (o) => o.item.ref?.identifier ?? '' },
 	{ header: 'State', width: 30, value: (o) => stateWords(o.r) },
 	{ header: 'Owner', width: 18, value: (o) => o.r.owner?.name ?? '' }
 ];
@@ -174,7 +186,7 @@ async function table<T>(
 }
 
 function* openLines(rows: MatrixRow[]): Generator<OpenLine> {
-	for (const r of rows) for (const item of r.openItems) yield { r, item };
+	for (const r of rows) for (const item of blockersOf(r)) yield { r, item };
 }
 
 /** Write the workbook of a snapshot into a stream; resolves when the last byte is written. */
@@ -215,7 +227,8 @@ export async function writeWorkbook(snap: Snapshot, cover: Cover, out: Writable)
 		['Engine version', snap.engineVersion],
 		['Requirements', snap.requirements.length],
 		['Caution', CAUTION_TITLE],
-		['', CAUTION_TEXT]
+		['', CAUTION_TEXT],
+		...ROLL_UP_RULE.map((line, i) => [i === 0 ? 'Verification rule' : '', line] as [string, string])
 	];
 	for (const l of lines) {
 		ws.addRow(l).commit();

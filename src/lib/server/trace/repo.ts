@@ -1,13 +1,13 @@
-import { ENGINE_VERSION } from '../../stability/index';
 import type { Knex } from 'knex';
 import type { Db } from '../db';
 import type { MatrixQuery } from './schema';
 
-// SQL only. The trace matrix is one set-based query over the whole project (no per-row queries):
-// the current revision, the model version in force, the run of the current inputs, the latest finished
-// run, evidence counts and parent/child identifiers are each one grouped sub-query joined by requirement.
-// The analysis state mirrors src/lib/server/analyses/state.ts (analysisStates) and the combined state
-// mirrors combine() in src/lib/trace/states.ts; tests compare both.
+// SQL only. The trace matrix is one set-based query over the whole project (no per-row queries): the
+// current revision, the model version in force (the view requirement_inputs), the latest finished run
+// and parent/child identifiers are each one grouped sub-query joined by requirement. The verification
+// state is not decided here: the service computes it (src/lib/server/verification) and passes, for the
+// requirements that pass the state filter, each one's rank in the state order, which this query joins
+// to filter and sort.
 
 export interface MatrixDbRow {
 	id: number;
@@ -36,8 +36,6 @@ export interface MatrixDbRow {
 	model_version_id: number | null;
 	model_version: number | null;
 	model_hash: string | null;
-	analysis_state: string;
-	current_run_id: number | null;
 	latest_run_id: number | null;
 	latest_status: string | null;
 	latest_verdict: string | null;
@@ -53,13 +51,7 @@ export interface MatrixDbRow {
 	latest_spec_version: number | null;
 	latest_spec_check: Record<string, unknown> | null;
 	latest_requirement_revision: number | null;
-	pending_runs: number;
-	evidence_count: number;
-	evidence_accepted: number;
-	evidence_rejected: number;
-	evidence_unreviewed: number;
-	has_tbx: boolean;
-	combined_state: string;
+	state_rank: number;
 	last_change: Date;
 	total: number;
 }
@@ -69,8 +61,7 @@ const SORTS: Record<string, string> = {
 	title: 'lower(title)',
 	level: "array_position(array['system','subsystem','loop'], level)",
 	assurance: 'assurance_level',
-	state:
-		"array_position(array['failing','pending','not-covered','verified-test-only','verified-analysis-only','verified-analysis-and-test'], combined_state)",
+	state: 'state_rank',
 	owner: 'lower(owner_name)',
 	lastChange: 'last_change'
 };
@@ -85,22 +76,12 @@ const MATRIX_SQL = `
 with cur as materialized (
 	select r.id, r.number, r.identifier, r.current_revision as revision, r.current_spec_id, r.updated_at,
 		rr.title, rr.level, rr.assurance_level, rr.methods, rr.status, rr.owner_id, u.display_name as owner_name,
-		rr.created_at as revised_at, (rr.statement ~ '\\mTB[DR]\\M') as has_tbx
+		rr.created_at as revised_at, st.state_rank
 	from requirements r
+	join unnest(:stateIds::bigint[], :stateRanks::int[]) as st(id, state_rank) on st.id = r.id
 	join requirement_revisions rr on rr.requirement_id = r.id and rr.revision = r.current_revision
 	left join users u on u.id = rr.owner_id
 	where r.project_id = :projectId /*CUR_FILTERS*/
-),
-inforce as (
-	select c.id, s.id as spec_id, m.id as model_id, mv.id as model_version_id, ar.id as run_id,
-		ar.status as run_status, ar.verdict as run_verdict
-	from cur c
-	join stability_specs s on s.id = c.current_spec_id
-	join models m on m.id = s.model_id
-	left join model_versions mv on mv.model_id = m.id
-		and (case when s.model_version_id is null then mv.version = m.latest_version else mv.id = s.model_version_id end)
-	left join analysis_runs ar on ar.requirement_id = c.id and ar.requirement_revision = c.revision
-		and ar.spec_id = s.id and ar.model_version_id = mv.id and ar.engine_version = :engine
 ),
 latest as (
 	select distinct on (ar.requirement_id) ar.requirement_id, ar.id, ar.finished_at
@@ -108,16 +89,8 @@ latest as (
 	where ar.project_id = :projectId and ar.status in ('done', 'error') and ar.requirement_id in (select id from cur)
 	order by ar.requirement_id, ar.finished_at desc nulls last, ar.id desc
 ),
-pend as (
-	select requirement_id, count(*)::int as n from analysis_runs
-	where project_id = :projectId and status in ('queued', 'running') group by requirement_id
-),
 ev as (
-	select el.requirement_id, count(*)::int as n,
-		(count(*) filter (where er.decision = 'accepted'))::int as accepted,
-		(count(*) filter (where er.decision = 'rejected'))::int as rejected,
-		(count(*) filter (where er.id is null))::int as unreviewed,
-		max(greatest(ef.uploaded_at, er.reviewed_at)) as last_at
+	select el.requirement_id, max(greatest(ef.uploaded_at, er.reviewed_at)) as last_at
 	from evidence e
 	join evidence_files ef on ef.evidence_id = e.id and ef.revision = e.current_revision
 	join evidence_links el on el.evidence_file_id = ef.id
@@ -126,40 +99,16 @@ ev as (
 	group by el.requirement_id
 ),
 stated as (
-	select j.*,
-		case
-			when analysis_state = 'failing' then 'failing'
-			when analysis_state = 'verified' and evidence_accepted > 0 then 'verified-analysis-and-test'
-			when analysis_state = 'verified' then 'verified-analysis-only'
-			when evidence_accepted > 0 then 'verified-test-only'
-			when analysis_state in ('pending', 'inconclusive', 'error') or evidence_unreviewed > 0 then 'pending'
-			else 'not-covered'
-		end as combined_state
-	from (
-		select c.*, i.spec_id, i.model_id, i.model_version_id, i.run_id as current_run_id,
-			case
-				when i.spec_id is null or i.model_version_id is null then 'not-analysed'
-				when i.run_id is null or i.run_status in ('queued', 'running') then 'pending'
-				when i.run_status = 'error' then 'error'
-				when i.run_verdict = 'pass' then 'verified'
-				when i.run_verdict = 'fail' then 'failing'
-				when i.run_verdict = 'inconclusive' then 'inconclusive'
-				else 'error'
-			end as analysis_state,
-			lt.id as latest_run_id,
-			coalesce(pend.n, 0) as pending_runs,
-			coalesce(ev.n, 0) as evidence_count, coalesce(ev.accepted, 0) as evidence_accepted,
-			coalesce(ev.rejected, 0) as evidence_rejected, coalesce(ev.unreviewed, 0) as evidence_unreviewed,
-			greatest(c.updated_at, c.revised_at, lt.finished_at, ev.last_at) as last_change
-		from cur c
-		left join inforce i on i.id = c.id
-		left join latest lt on lt.requirement_id = c.id
-		left join pend on pend.requirement_id = c.id
-		left join ev on ev.requirement_id = c.id
-	) j
+	select c.*, ri.spec_id, ri.model_id, ri.model_version_id,
+		lt.id as latest_run_id,
+		greatest(c.updated_at, c.revised_at, lt.finished_at, ev.last_at) as last_change
+	from cur c
+	left join requirement_inputs ri on ri.requirement_id = c.id
+	left join latest lt on lt.requirement_id = c.id
+	left join ev on ev.requirement_id = c.id
 ),
 page as (
-	select *, count(*) over ()::int as total from stated /*WHERE*/ /*ORDER*/ /*LIMIT*/
+	select *, count(*) over ()::int as total from stated /*ORDER*/ /*LIMIT*/
 )
 select p.*, rr.statement, rr.rationale, rr.content_hash,
 	-- Per row through the link indexes: a grouped sub-query here was aggregated once per page row.
@@ -191,15 +140,11 @@ export async function matrix(
 	projectId: number,
 	q: MatrixQuery,
 	limit: number | null,
-	offset = 0
+	offset: number,
+	states: { ids: number[]; ranks: number[] }
 ): Promise<MatrixDbRow[]> {
-	const where: string[] = [];
 	const curWhere: string[] = [];
-	const b: Record<string, unknown> = { projectId, engine: ENGINE_VERSION };
-	if (q.state?.length) {
-		where.push('combined_state = any(:states::text[])');
-		b.states = q.state;
-	}
+	const b: Record<string, unknown> = { projectId, stateIds: states.ids, stateRanks: states.ranks };
 	if (q.level) {
 		curWhere.push('rr.level = :level');
 		b.level = q.level;
@@ -224,11 +169,10 @@ export async function matrix(
 	const dir = q.dir === 'desc' ? 'desc' : 'asc';
 	const order = `order by ${sort} ${dir} nulls last, number ${dir}`;
 	const sql = MATRIX_SQL.replace('/*CUR_FILTERS*/', curWhere.map((w) => 'and ' + w).join(' '))
-		.replace('/*WHERE*/', where.length ? 'where ' + where.join(' and ') : '')
 		.replace('/*ORDER*/', order)
 		.replace(
 			'/*ORDER*/',
-			order.replace(/\b(number|title|level|assurance_level|combined_state|owner_name|last_change)\b/g, 'p.$1')
+			order.replace(/\b(number|title|level|assurance_level|state_rank|owner_name|last_change)\b/g, 'p.$1')
 		)
 		.replace('/*LIMIT*/', limit !== null ? 'limit :limit offset :offset' : '');
 	if (limit !== null) {

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { COMBINED_STATES } from '../../trace/states';
+import { COMBINED_STATES } from '../../verification/index';
 
 // Query parameters of the trace-matrix API (and of its exports).
 

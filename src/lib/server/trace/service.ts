@@ -1,13 +1,21 @@
 import { ENGINE_VERSION } from '../../stability/index';
 import { frequencyText, testedUpper } from '../../verification/decision';
-import { combine, type AnalysisStateName, type CombinedState, type OpenItem } from '../../trace/states';
+import {
+	STATE_ORDER,
+	type AnalysisState,
+	type BlockerKind,
+	type CombinedState,
+	type HowVerified
+} from '../../verification/index';
 import { recordEvent, type Actor } from '../audit';
 import { db, type Db } from '../db';
+import { verificationOf, type RequirementVerification } from '../verification/service';
 import * as repo from './repo';
 import type { MatrixQuery } from './schema';
 
 // The trace matrix: one row per requirement with its links, the model version in force, the latest
-// analysis and its certified numbers, evidence counts, the combined state and what is still open.
+// analysis and its certified numbers, evidence counts, and its one verification state with what
+// blocks it (src/lib/server/verification; nothing here decides a state).
 // The same rows, with the texts, analyses and evidence, form a "snapshot": what the exports write and
 // what a baseline freezes (src/lib/server/baselines).
 
@@ -58,13 +66,25 @@ export interface MatrixRow {
 		version: number | null;
 		hash: string | null;
 	} | null;
-	analysisState: AnalysisStateName;
+	analysisState: AnalysisState;
 	latestRun: LatestRun | null;
 	pendingRuns: number;
 	evidence: { count: number; accepted: number; rejected: number; unreviewed: number };
 	state: CombinedState;
-	openItems: OpenItem[];
+	/** The state in words ("Verified by analysis and through derived requirements", "Blocked", ...). */
+	stateLabel: string;
+	stateSymbol: string;
+	/** How a verified requirement is verified. */
+	how: HowVerified | null;
+	/** What keeps it from being verified, each with the requirement it points at. */
+	blockers: MatrixBlocker[];
 	lastChange: string;
+}
+
+export interface MatrixBlocker {
+	kind: BlockerKind;
+	text: string;
+	ref: { id: number; identifier: string; state: CombinedState } | null;
 }
 
 /** A matrix row with the texts and hashes a baseline keeps. */
@@ -92,7 +112,7 @@ export interface SnapshotEvidence {
 }
 
 export interface Snapshot {
-	format: 'loopwarden-snapshot/1';
+	format: 'loopwarden-snapshot/2';
 	project: { key: string; name: string };
 	engineVersion: string;
 	requirements: SnapshotRequirement[];
@@ -203,23 +223,7 @@ export function certifiedNumbers(
 	};
 }
 
-export function openItemsOf(r: repo.MatrixDbRow): OpenItem[] {
-	if (r.status === 'retired') return [];
-	const out: OpenItem[] = [];
-	if (r.has_tbx) out.push('tbd');
-	if (r.analysis_state === 'pending' || r.pending_runs > 0) out.push('pending');
-	if (r.analysis_state === 'failing') out.push('failing');
-	if (r.analysis_state === 'error') out.push('analysis-error');
-	if (r.analysis_state === 'inconclusive') out.push('inconclusive');
-	if (r.evidence_rejected > 0) out.push('rejected');
-	if (r.evidence_unreviewed > 0) out.push('unreviewed');
-	if (r.methods.includes('test') && r.evidence_accepted === 0) out.push('no-evidence');
-	if (r.methods.includes('analysis') && r.spec_id === null) out.push('no-spec');
-	return out;
-}
-
-function toRow(r: repo.MatrixDbRow): MatrixRow {
-	const analysisState = r.analysis_state as AnalysisStateName;
+function toRow(r: repo.MatrixDbRow, v: RequirementVerification): MatrixRow {
 	return {
 		id: Number(r.id),
 		identifier: r.identifier,
@@ -241,13 +245,13 @@ function toRow(r: repo.MatrixDbRow): MatrixRow {
 					hash: r.model_hash
 				}
 			: null,
-		analysisState,
+		analysisState: v.analysis,
 		latestRun: r.latest_run_id
 			? {
 					id: Number(r.latest_run_id),
 					status: r.latest_status ?? '',
 					verdict: r.latest_verdict,
-					stale: r.current_run_id === null || Number(r.current_run_id) !== Number(r.latest_run_id),
+					stale: v.currentRunId === null || v.currentRunId !== Number(r.latest_run_id),
 					numbers: certifiedNumbers(r.latest_spec_check, r.latest_result, r.required_margin),
 					worstPoint: r.latest_worst_point,
 					finishedAt: iso(r.latest_finished_at),
@@ -261,22 +265,23 @@ function toRow(r: repo.MatrixDbRow): MatrixRow {
 					requirementRevision: Number(r.latest_requirement_revision)
 				}
 			: null,
-		pendingRuns: r.pending_runs,
+		pendingRuns: v.pendingRuns,
 		evidence: {
-			count: r.evidence_count,
-			accepted: r.evidence_accepted,
-			rejected: r.evidence_rejected,
-			unreviewed: r.evidence_unreviewed
+			count: v.evidenceCounts.accepted + v.evidenceCounts.rejected + v.evidenceCounts.unreviewed,
+			...v.evidenceCounts
 		},
-		state: r.combined_state as CombinedState,
-		openItems: openItemsOf(r),
+		state: v.state,
+		stateLabel: v.label,
+		stateSymbol: v.symbol,
+		how: v.how,
+		blockers: v.blockers.map((b) => ({ kind: b.kind, text: b.text, ref: b.ref ?? null })),
 		lastChange: iso(r.last_change) ?? ''
 	};
 }
 
-function toSnapshotRow(r: repo.MatrixDbRow): SnapshotRequirement {
+function toSnapshotRow(r: repo.MatrixDbRow, v: RequirementVerification): SnapshotRequirement {
 	return {
-		...toRow(r),
+		...toRow(r, v),
 		statement: r.statement,
 		rationale: r.rationale,
 		contentHash: r.content_hash,
@@ -292,15 +297,27 @@ function toSnapshotRow(r: repo.MatrixDbRow): SnapshotRequirement {
 	};
 }
 
-// Guard against drift between the SQL and combine(): the SQL decides filters, combine() documents.
-function checkCombined(r: repo.MatrixDbRow) {
-	const expected = combine(r.analysis_state as AnalysisStateName, {
-		accepted: r.evidence_accepted,
-		unreviewed: r.evidence_unreviewed
-	});
-	if (expected !== r.combined_state)
-		throw new Error(`combined state of ${r.identifier}: SQL ${r.combined_state}, rule ${expected}`);
+/**
+ * The verification state of every requirement of the project (the roll-up needs the whole tree), and
+ * for those passing the state filter their rank in the state order, for the query to filter and sort.
+ */
+async function statesFor(conn: Db, projectId: number, q: MatrixQuery) {
+	const all = await verificationOf(conn, { projectId });
+	const ids: number[] = [];
+	const ranks: number[] = [];
+	for (const [id, v] of all) {
+		if (q.state?.length && !q.state.includes(v.state)) continue;
+		ids.push(id);
+		ranks.push(STATE_ORDER.indexOf(v.state));
+	}
+	return { all, filter: { ids, ranks } };
 }
+
+const stateOf = (all: Map<number, RequirementVerification>, r: repo.MatrixDbRow) => {
+	const v = all.get(Number(r.id));
+	if (!v) throw new Error(`no verification state for ${r.identifier}`);
+	return v;
+};
 
 export interface MatrixPage {
 	rows: MatrixRow[];
@@ -312,22 +329,22 @@ export interface MatrixPage {
 
 /** One page of the matrix, filtered and sorted in the database. */
 export async function matrixPage(projectId: number, q: MatrixQuery): Promise<MatrixPage> {
-	const rows = await repo.matrix(db(), projectId, q, q.limit, q.offset);
-	rows.forEach(checkCombined);
+	const { all, filter } = await statesFor(db(), projectId, q);
+	const raw = await repo.matrix(db(), projectId, q, q.limit, q.offset, filter);
+	const rows = raw.map((r) => toRow(r, stateOf(all, r)));
 	return {
-		rows: rows.map(toRow),
-		total: rows[0]?.total ?? 0,
+		rows,
+		total: raw[0]?.total ?? 0,
 		offset: q.offset,
 		limit: q.limit,
-		pending: rows.filter((r) => r.analysis_state === 'pending').length
+		pending: rows.filter((r) => r.analysisState === 'pending').length
 	};
 }
 
 /** Every row that passes the filters (for streaming and exports). */
 export async function matrixAll(projectId: number, q: MatrixQuery, conn: Db = db()): Promise<MatrixRow[]> {
-	const rows = await repo.matrix(conn, projectId, q, null);
-	rows.forEach(checkCombined);
-	return rows.map(toRow);
+	const { all, filter } = await statesFor(conn, projectId, q);
+	return (await repo.matrix(conn, projectId, q, null, 0, filter)).map((r) => toRow(r, stateOf(all, r)));
 }
 
 export const owners = (projectId: number) => repo.owners(db(), projectId);
@@ -338,17 +355,17 @@ export async function snapshot(projectId: number, q?: MatrixQuery, conn?: Db): P
 		const project = await repo.projectById(trx, projectId);
 		if (!project) throw new Error(`project ${projectId} not found`);
 		const query = q ?? ({ sort: 'identifier', dir: 'asc', limit: 100, offset: 0 } as MatrixQuery);
-		const rows = await repo.matrix(trx, projectId, query, null);
-		rows.forEach(checkCombined);
+		const { all, filter } = await statesFor(trx, projectId, query);
+		const rows = await repo.matrix(trx, projectId, query, null, 0, filter);
 		const ev = await repo.evidence(trx, projectId);
 		const links = await repo.links(trx, projectId);
 		const mvs = await repo.modelVersions(trx, projectId);
 		const included = new Set(rows.map((r) => r.identifier));
 		return {
-			format: 'loopwarden-snapshot/1',
+			format: 'loopwarden-snapshot/2',
 			project: { key: project.key, name: project.name },
 			engineVersion: ENGINE_VERSION,
-			requirements: rows.map(toSnapshotRow),
+			requirements: rows.map((r) => toSnapshotRow(r, stateOf(all, r))),
 			links: links
 				.filter((l) => included.has(l.child))
 				.map((l) => ({

@@ -57,12 +57,19 @@ function circleResult(plant: Plant, k1: number, k2: number): CheckResult {
 	const region = regionWords(k1, k2);
 	let explanation: string;
 	let reason: string | undefined;
+	// Preconditions of the criterion (Khalil, Nonlinear Systems, 3rd ed., Theorem 7.1 and Lemma 6.1), as
+	// distinct from its condition: a failure here means the criterion says nothing, not "not proved".
+	let notApplicable: CheckResult['notApplicable'];
 	if (core.pass) {
 		explanation = `Absolutely stable for every nonlinearity in the sector ${sector}: the Nyquist curve stays in ${region}, proved exactly.`;
 	} else {
 		switch (core.failure) {
 			case 'ill-posed':
 				reason = `1 + k1 G has lower degree than the plant: the loop with gain k1 = ${fmt(k1)} is not well posed.`;
+				notApplicable = {
+					precondition: `the loop is well posed for the gain k1 = ${fmt(k1)} (1 + k1 G(∞) ≠ 0)`,
+					remedy: 'A lower sector bound k1 with 1 + k1 G(∞) ≠ 0 makes the criterion applicable.'
+				};
 				break;
 			case 'hurwitz':
 				reason =
@@ -71,10 +78,23 @@ function circleResult(plant: Plant, k1: number, k2: number): CheckResult {
 						: k1 > 0
 							? `The loop closed with gain k1 = ${fmt(k1)} is unstable: the Nyquist curve does not encircle -1/k1 as many times as G has right-half-plane poles.`
 							: `The loop closed with gain k1 = ${fmt(k1)} is unstable (1 + k1 G has a zero with non-negative real part).`;
+				if (k1 === 0)
+					notApplicable = {
+						precondition: 'G is Hurwitz (required by the sector case k1 = 0)',
+						remedy:
+							'A loop transformation makes it applicable: a lower bound k1 > 0 that stabilises the plant (the case 0 < k1 < k2 allows unstable plants through the encirclement count), or a model of the plant with its stabilising loop closed.'
+					};
 				break;
 			case 'infinity':
 				reason =
 					'At high frequency Re Z does not stay positive in the way strict positive realness requires (relative degree of Z above one).';
+				notApplicable = {
+					precondition: 'Z = (1 + k2 G) / (1 + k1 G) has relative degree at most one',
+					remedy:
+						k2 === Infinity
+							? 'A finite upper bound k2 makes the criterion applicable (Z then has relative degree zero).'
+							: 'Another criterion (Popov for a time-invariant element) or a plant model with its high-frequency behaviour may apply.'
+				};
 				break;
 			case 'undecided':
 				reason = `The exact root isolation of the frequency condition stopped: ${core.reason ?? 'work budget exceeded'}.`;
@@ -104,6 +124,7 @@ function circleResult(plant: Plant, k1: number, k2: number): CheckResult {
 		numbers,
 		explanation,
 		...(reason ? { reason } : {}),
+		...(notApplicable ? { notApplicable } : {}),
 		assumptions: CIRCLE_ASSUMPTIONS
 	};
 }

@@ -432,7 +432,16 @@ function popovResult(plant: Plant, k: number): CheckResult {
 			threshold: null,
 			numbers: { k },
 			explanation: core.reason!,
-			reason: core.reason
+			reason: core.reason,
+			// A direct feedthrough is a failed precondition; an undecided Hurwitz test is not.
+			...(degree(plant.Ns) >= plant.order
+				? {
+						notApplicable: {
+							precondition: 'G is strictly proper (required by the Popov criterion)',
+							remedy: 'The circle criterion applies to plants with a direct feedthrough.'
+						}
+					}
+				: {})
 		};
 	if (!core.hurwitz) {
 		const reason =
@@ -444,7 +453,12 @@ function popovResult(plant: Plant, k: number): CheckResult {
 			threshold: null,
 			numbers: { k },
 			explanation: reason,
-			reason
+			reason,
+			notApplicable: {
+				precondition: 'G is Hurwitz (required by the Popov criterion)',
+				remedy:
+					'A loop transformation makes it applicable: take out a stabilising gain and use the circle criterion with a lower bound k1 > 0, which allows unstable plants.'
+			}
 		};
 	}
 	const pp = core.pp!;

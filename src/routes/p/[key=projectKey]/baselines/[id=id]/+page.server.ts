@@ -2,7 +2,8 @@ import { error } from '@sveltejs/kit';
 import { access, inAddress } from '$lib/server/auth';
 import { getBaseline } from '$lib/server/baselines/service';
 import { ServiceError } from '$lib/server/errors';
-import { COMBINED_STATES } from '$lib/trace/states';
+import { stateWords } from '$lib/server/trace/export';
+import { COMBINED_LOOK, COMBINED_STATES } from '$lib/verification';
 import type { PageServerLoad } from './$types';
 
 const SHOWN = 1000;
@@ -17,11 +18,14 @@ export const load = (async (event) => {
 		throw e;
 	}
 	const m = b.manifest;
-	const states = Object.fromEntries(COMBINED_STATES.map((s) => [s, 0])) as Record<
-		(typeof COMBINED_STATES)[number],
-		number
-	>;
-	for (const r of m.requirements) states[r.state]++;
+	// Counted by the state as frozen (a manifest frozen before the one verification state keeps its
+	// own state names; those are listed under their own name).
+	const counts = new Map<string, number>(COMBINED_STATES.map((s) => [s, 0]));
+	for (const r of m.requirements) counts.set(r.state, (counts.get(r.state) ?? 0) + 1);
+	const states = [...counts].map(([state, n]) => {
+		const look = COMBINED_LOOK[state as keyof typeof COMBINED_LOOK];
+		return { state, n, symbol: look?.symbol ?? '', label: look?.label ?? state };
+	});
 	return {
 		project: { key: project.key, name: project.name },
 		baseline: {
@@ -49,6 +53,7 @@ export const load = (async (event) => {
 			revision: r.revision,
 			title: r.title,
 			state: r.state,
+			stateWords: stateWords(r),
 			model: r.model ? `${r.model.name} v${r.model.version ?? '?'}` : '',
 			verdict: r.latestRun?.verdict ?? '',
 			hash: r.contentHash

@@ -4,11 +4,12 @@ import { actorOf } from '$lib/server/audit';
 import { access } from '$lib/server/auth';
 import { db } from '$lib/server/db';
 import { listEvidence, uploadEvidence } from '$lib/server/evidence/service';
-import { combinedStates } from '$lib/server/evidence/state';
+import { verificationOf } from '$lib/server/verification/service';
 import type { RequestHandler } from './$types';
 
 // GET: the project's evidence (filters: kind, review, requirement). With ?requirement=<id> the answer
-// also carries that requirement's combined verification state.
+// also carries that requirement's verification state (`requirement`: the one combined state, its
+// blockers, the evidence state per method).
 export const GET = endpoint(async (event) => {
 	const q = event.url.searchParams;
 	// The same form as the id matcher (src/params/id.ts).
@@ -24,12 +25,23 @@ export const GET = endpoint(async (event) => {
 		review: q.get('review') ?? undefined,
 		requirement: q.get('requirement') ?? undefined
 	});
-	let combined = null;
+	let requirement = null;
 	if (byId) {
-		const states = await combinedStates(db(), [reqId]);
-		combined = states.get(reqId) ?? null;
+		const v = (await verificationOf(db(), { requirementIds: [reqId] })).get(reqId);
+		// Only a requirement of this project: another project's state is not told through this URL.
+		if (v && v.projectId === project.id)
+			requirement = {
+				state: v.state,
+				label: v.label,
+				symbol: v.symbol,
+				how: v.how,
+				analysis: v.analysis,
+				evidence: v.evidence,
+				evidenceCounts: v.evidenceCounts,
+				blockers: v.blockers.map((b) => ({ kind: b.kind, text: b.text, ref: b.ref ?? null }))
+			};
 	}
-	return json({ evidence: list.rows, combined }, { headers: { 'cache-control': 'no-store' } });
+	return json({ evidence: list.rows, requirement }, { headers: { 'cache-control': 'no-store' } });
 }) satisfies RequestHandler;
 
 // POST multipart/form-data: `file` plus title, kind, requirementIds (comma-separated identifiers or ids),
