@@ -6,7 +6,7 @@ import { PassThrough } from 'node:stream';
 import { blockersOf } from '../../../src/lib/server/baselines/service';
 import { coverageOf } from '../../../src/lib/server/coverage/service';
 import { closeDb, db } from '../../../src/lib/server/db';
-import { processRun } from '../../../src/lib/server/jobs/run';
+import { processRun } from '../../../src/lib/server/analyses/run';
 import { createModel, publishVersion } from '../../../src/lib/server/models/service';
 import { addLink, createRequirement, setSpecification } from '../../../src/lib/server/requirements/service';
 import { stateWords, writeWorkbook } from '../../../src/lib/server/trace/export';

@@ -6,7 +6,7 @@ import {
 	checkSchema,
 	modelSchema,
 	nyquistCurve,
-	regionMargin,
+	regionMargin
 } from '../../stability/index';
 import { type DecisionRegion, decisionRegions, testedCheck } from '../../verification/decision';
 import { type Actor, historyOf, recordEvent } from '../audit';
