@@ -12,7 +12,7 @@ type Section = () => Promise<{
 
 const sections: Record<string, Section> = {
 	// Loaded when run, so one section's module does not hold up the others.
-	// Certified circle check vs a 10,000-point grid, orders 2..30, on a lightly damped case (prints a table).
+	// Exact circle check vs a 10,000-point grid, orders 2..30, on a lightly damped case (prints a table).
 	engine: async () => (await import('./bench/engine')).engineSection(),
 	reverify: async () => (await import('./bench/reverify')).reverifySection(),
 	upload: async () => (await import('./bench/upload')).uploadSection(),

@@ -22,7 +22,7 @@ import { CUBE, pauseHarnessWorker, points, resumeHarnessWorker } from '../integr
 // is queued (the harness worker is held so the state can be seen) and the verdict once it has run,
 // without a reload.
 //
-// G(s) = 1/(s+1)^3: the circle criterion with k1 = 0 certifies k2 < 4 (tests/integration/models/helpers.ts,
+// G(s) = 1/(s+1)^3: the circle criterion with k1 = 0 proves k2 < 4 (tests/integration/models/helpers.ts,
 // Khalil, Nonlinear Systems, 3rd ed., Theorem 7.1), so sector [0, 3] is verified and [0, 5] is failing.
 
 let browser: Browser;
@@ -151,7 +151,7 @@ describe('open pages follow a model publish and an evidence review without a rel
 			title: 'Live roll loop stability',
 			methods: ['analysis', 'test']
 		});
-		// 1/(s+1) certifies every sector [0, k] (Re G > 0); 1/(s+1)^3 certifies only k2 < 4 (see above).
+		// 1/(s+1) proves every sector [0, k] (Re G > 0); 1/(s+1)^3 proves only k2 < 4 (see above).
 		await createSpec(req.id, { modelId: model.id, check: { type: 'circle', sector: [0, 5] } });
 		await createRun(req.id, { engineVersion: ENGINE_VERSION, verdict: 'pass' });
 		const evidence = await createEvidence(team.project.id, [req.id], { title: 'Roll rig sweep' });

@@ -48,7 +48,7 @@ describe('publishing a model version in the browser', () => {
 			ownerId: team.users.engineer.id,
 			title: 'Elevator loop absolute stability'
 		});
-		// Sector [0, 5]: 1/(s+1) passes (Re G > 0); 1/(s+1)^3 fails (certified bound 4, see integration/models/helpers.ts).
+		// Sector [0, 5]: 1/(s+1) passes (Re G > 0); 1/(s+1)^3 fails (proved bound 4, see integration/models/helpers.ts).
 		await createSpec(req.id, { modelId: model.id, check: { type: 'circle', sector: [0, 5] } });
 		await createRun(req.id, { engineVersion: ENGINE_VERSION, verdict: 'pass' });
 

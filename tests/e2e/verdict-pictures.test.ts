@@ -144,8 +144,8 @@ describe('verdict pictures on the requirement page', () => {
 			modelId: elevonId,
 			modelVersionId: v3
 		});
-		const l14 = spec('Elevon largest certified sector').spec!;
-		const wide = await requirement('Elevon largest certified sector', {
+		const l14 = spec('Elevon largest proved sector').spec!;
+		const wide = await requirement('Elevon largest proved sector', {
 			check: l14.check,
 			modelId: elevonId
 		});
@@ -154,7 +154,7 @@ describe('verdict pictures on the requirement page', () => {
 		const l6 = spec('Governor Popov criterion').spec!;
 		const popovPass = await requirement('Governor Popov criterion', { check: l6.check, modelId: governorId });
 		// Routh-Hurwitz by hand: 9/((s+0.5)(s+2)(s+6)) is stable under constant gain k only for k < 14.44,
-		// so the Popov sector [0, 20] (tested on [0, 24] with a 20 % margin) cannot be certified.
+		// so the Popov sector [0, 20] (tested on [0, 24] with a 20 % margin) cannot be proved.
 		const popovFail = await requirement('Governor Popov criterion', {
 			check: { type: 'popov', sector: [0, 20] },
 			requiredMargin: 0.2,
@@ -249,14 +249,14 @@ describe('the publish preview', () => {
 		for (const v of elevon.versions) await publish(modelId, v);
 		const l1 = spec('Elevon loop circle criterion').spec!;
 		const l2 = spec('Elevon loop under 6 dB gain uncertainty').spec!;
-		const l14 = spec('Elevon largest certified sector').spec!;
+		const l14 = spec('Elevon largest proved sector').spec!;
 		const a = await requirement('Elevon loop circle criterion', {
 			check: l1.check,
 			requiredMargin: l1.requiredMargin,
 			modelId
 		});
 		const b = await requirement('Elevon loop under 6 dB gain uncertainty', { check: l2.check, modelId });
-		const c = await requirement('Elevon largest certified sector', { check: l14.check, modelId });
+		const c = await requirement('Elevon largest proved sector', { check: l14.check, modelId });
 		await settled([a.id, b.id, c.id], 60_000);
 
 		const ctx = await browser.newContext({ viewport: { width: 1440, height: 900 } });

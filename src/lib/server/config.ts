@@ -65,7 +65,9 @@ export const config = {
 			retryDelaySeconds: Math.max(1, int('LW_RUN_RETRY_DELAY_SECONDS', 1)),
 			expireSeconds: Math.max(1, int('LW_RUN_EXPIRE_SECONDS', 20)),
 			holdMs: Math.max(0, int('LW_WORKER_HOLD_MS', 0)),
-			queueMaintenanceSeconds: Math.max(1, int('LW_QUEUE_MAINTENANCE_SECONDS', 2))
+			queueMaintenanceSeconds: Math.max(1, int('LW_QUEUE_MAINTENANCE_SECONDS', 2)),
+			// Time budget of each engine check in a run (circle, Popov, largest sector), in seconds.
+			engineBudgetSeconds: Math.min(600, Math.max(1, int('LW_ENGINE_BUDGET_SECONDS', 5)))
 		};
 	},
 	/** Largest evidence file accepted, in bytes (default 200 MiB). */

@@ -7,6 +7,7 @@ import { runPositiveReal } from './checks/positive-real';
 import { preparePlant } from './model';
 import { maxSectorLimits, popovAfter, preflight } from './preflight';
 import { type Check, type Model, ModelInputError, parseCase, parseCheck, parseModel } from './schema';
+import type { EngineOptions } from './budget';
 import type { CheckResult, Verdict } from './types';
 
 // Parsed models by input object, so repeated checks on the same model reuse its exact polynomials.
@@ -27,29 +28,32 @@ function validModel(modelIn: unknown, path: string): Model {
  * One check on a validated model: the preflight (well-posedness, hidden modes; preflight.ts) first, then
  * the criterion. Every entry point below validates its input once and then comes here.
  */
-function runValidated(model: Model, check: Check): CheckResult {
+function runValidated(model: Model, check: Check, opts: EngineOptions): CheckResult {
 	const plant = preparePlant(model);
 	const refused = preflight(plant, model, check);
 	if (refused) return refused;
 	switch (check.type) {
 		case 'circle':
-			return runCircle(plant, check.sector[0], check.sector[1]);
+			return runCircle(plant, check.sector[0], check.sector[1], opts);
 		case 'popov':
-			return popovAfter(plant, runPopov(plant, check.sector[1]));
+			return popovAfter(plant, runPopov(plant, check.sector[1], opts));
 		case 'positive-real':
 			return runPositiveReal(plant);
 		case 'max-sector':
-			return runMaxSector(plant, check.lower, maxSectorLimits(plant, check.lower));
+			return runMaxSector(plant, check.lower, maxSectorLimits(plant, check.lower), opts);
 		case 'margins':
 			return runMargins(plant, check.minGainMarginDb, check.minPhaseMarginDeg);
 	}
 }
 
-/** Run one check. Inputs are validated (ModelInputError on bad input); results are plain data. */
-export function runCheck(modelIn: Model, checkIn: Check): CheckResult {
+/**
+ * Run one check. Inputs are validated (ModelInputError on bad input); results are plain data.
+ * `opts.budgetSeconds` bounds the circle, Popov and largest-sector checks (budget.ts, default 5 s).
+ */
+export function runCheck(modelIn: Model, checkIn: Check, opts: EngineOptions = {}): CheckResult {
 	const model = validModel(modelIn, 'model');
 	const check = parseCheck(checkIn, 'check');
-	return runValidated(model, check);
+	return runValidated(model, check, opts);
 }
 
 const verdictRank: Record<Verdict, number> = { fail: 0, inconclusive: 1, pass: 2 };
@@ -84,21 +88,23 @@ function score(r: CheckResult): [number, number] {
  */
 export function runCheckOnPoints(
 	points: { label: string; model: Model }[],
-	check: Check
+	check: Check,
+	opts: EngineOptions = {}
 ): CheckResult & { worstPoint: string; perPoint: (CheckResult & { label: string })[] } {
 	if (!Array.isArray(points) || points.length === 0)
 		throw new ModelInputError([{ path: 'operatingPoints', message: 'operatingPoints is empty' }]);
 	const parsed = parseCheck(check, 'check');
 	const models = points.map((p, i) => validModel(p.model, `operatingPoints[${i}].model`));
-	return onPoints(points, models, parsed);
+	return onPoints(points, models, parsed, opts);
 }
 
 function onPoints(
 	points: { label: string }[],
 	models: Model[],
-	check: Check
+	check: Check,
+	opts: EngineOptions
 ): CheckResult & { worstPoint: string; perPoint: (CheckResult & { label: string })[] } {
-	const perPoint = points.map((p, i) => ({ label: p.label, ...runValidated(models[i], check) }));
+	const perPoint = points.map((p, i) => ({ label: p.label, ...runValidated(models[i], check, opts) }));
 	let worst = perPoint[0];
 	for (const r of perPoint.slice(1)) {
 		const a = score(r);
@@ -124,11 +130,12 @@ function onPoints(
 export function analyzeCase(input: unknown): { results: CheckResult[] } {
 	// Validated once here (a second pass would see the parsed values, not the file's spellings).
 	const c = parseCase(input);
+	const opts: EngineOptions = { budgetSeconds: c.options?.budgetSeconds };
 	if (c.operatingPoints) {
 		const pts = c.operatingPoints;
 		const models = pts.map((p) => p.model);
-		return { results: c.checks.map((ch) => onPoints(pts, models, ch)) };
+		return { results: c.checks.map((ch) => onPoints(pts, models, ch, opts)) };
 	}
 	const model = c.model!;
-	return { results: c.checks.map((ch) => runValidated(model, ch)) };
+	return { results: c.checks.map((ch) => runValidated(model, ch, opts)) };
 }

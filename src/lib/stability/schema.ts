@@ -261,7 +261,20 @@ export const caseSchema = z
 		{
 			model: modelSchema.optional(),
 			operatingPoints: z.array(operatingPoint, { error: 'operatingPoints must be an array' }).optional(),
-			checks: z.array(checkSchema, { error: 'checks must be an array' }).min(1, 'checks is empty')
+			checks: z.array(checkSchema, { error: 'checks must be an array' }).min(1, 'checks is empty'),
+			// Engine settings for this case: the time budget of each circle, Popov and largest-sector check.
+			options: z
+				.strictObject(
+					{
+						budgetSeconds: z
+							.number({ error: 'budgetSeconds must be a number of seconds' })
+							.positive('budgetSeconds must be above 0')
+							.max(600, 'budgetSeconds is at most 600')
+							.optional()
+					},
+					strictIn('options')
+				)
+				.optional()
 		},
 		strictIn('the case')
 	)

@@ -4,7 +4,7 @@ type SectorGeometry = ReturnType<typeof sectorGeometry>;
 
 // What a run decides: which operating points, and on which sector.
 // The sector a verdict is decided on. A specification states a sector [k1, k2] and may require a margin
-// on top of it: the analysis then proves the wider sector [k1, k2 (1 + margin)], so that the certified
+// on top of it: the analysis then proves the wider sector [k1, k2 (1 + margin)], so that the proved
 // upper bound exceeds the stated one by that fraction. The worker decides with this check, the plots
 // draw its region, the evidence comparison samples against it; nothing else widens a sector.
 // Pure and browser-safe.

@@ -93,8 +93,8 @@ describe('evidence pages', () => {
 		expect(page.status).toBe(200);
 		// Sector [0, 2]: Re G(jw) = 1/(1 + w^2) > 0 > -1/2 at every measured point, so the sampled check passes.
 		expect(html).toContain('data-sampled="pass"');
-		expect(html).toContain('sampled — not certified');
-		expect(html).not.toMatch(/certified verdict: pass/i);
+		expect(html).toContain('sampled — not proved');
+		expect(html).not.toMatch(/proved verdict: pass/i);
 		// The response is the nominal model exactly: within tolerance; against 1.3 G the relative error is
 		// |G - 1.3 G| / |1.3 G| = 0.3 / 1.3 = 23.08 % at every frequency.
 		expect(html).toMatch(/nominal<\/td>.*?0\.00 %/s);

@@ -6,13 +6,13 @@ import { env } from '../../helpers/env';
 
 // Shared by the re-verification tests.
 
-/** G(s) = 1/(s+1): Re G(jw) = 1/(1+w^2) > 0, so the circle criterion certifies every sector [0, k]. */
+/** G(s) = 1/(s+1): Re G(jw) = 1/(1+w^2) > 0, so the circle criterion proves every sector [0, k]. */
 export const LAG = { kind: 'tf', num: [1], den: [1, 1] } as const;
 /**
  * G(s) = 1/(s+1)^3. With c = cos(atan w): Re G(jw) = c^3 cos(3 atan w) = 4c^6 - 3c^4, smallest at c^2 = 1/2
  * (w = 1 rad/s) where it is -1/4. Circle criterion with k1 = 0 (Khalil, Nonlinear Systems, 3rd ed.,
  * Theorem 7.1): 1 + k2 Re G(jw) > 0 for all w, i.e. k2 < 4. So [0, 3] passes, [0, 5] fails, and the
- * largest certified upper bound is 4, at the critical frequency 1 rad/s.
+ * largest proved upper bound is 4, at the critical frequency 1 rad/s.
  */
 export const CUBE = { kind: 'tf', num: [1], den: [1, 3, 3, 1] } as const;
 

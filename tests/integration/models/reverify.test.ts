@@ -133,7 +133,7 @@ describe('publishing a model version', () => {
 		expect(await testDb()('model_versions').where({ model_id: modelId, version: 2 }).first()).toBeUndefined();
 	});
 
-	it('the worker completes the runs; verdicts, certified numbers and curves are stored', async () => {
+	it('the worker completes the runs; verdicts, proved numbers and curves are stored', async () => {
 		const modelId = await newModel('cube loop');
 		const pass = await requirementOn(modelId, [0, 3]);
 		const fail = await requirementOn(modelId, [0, 5]);
@@ -153,7 +153,7 @@ describe('publishing a model version', () => {
 			expect(r.duration_ms).toBeGreaterThanOrEqual(0);
 			expect(r.trigger).toBe('model-publish');
 			expect(r.trigger_ref).toBe(`model-version:${body.id}`);
-			// Largest certified k2 for k1 = 0 is -1 / min Re G = 4, reached at w = 1 rad/s (helpers.ts).
+			// Largest proved k2 for k1 = 0 is -1 / min Re G = 4, reached at w = 1 rad/s (helpers.ts).
 			expect(r.result.certifiedUpper).toBeCloseTo(4, 6);
 			expect(r.curves.points[0].nyquist.length).toBeGreaterThan(50);
 			expect(r.curves.sector.kind).toBe('half-plane');
@@ -419,7 +419,7 @@ describe('verdict-change mail', () => {
 			'verified'
 		]);
 
-		// v2 = 1/(s+1)^3: k2 = 5, 6, 7 all exceed the certified 4, so all three turn to failing.
+		// v2 = 1/(s+1)^3: k2 = 5, 6, 7 all exceed the proved 4, so all three turn to failing.
 		const v2 = await publish(modelId, points(CUBE), 'v2 adds two lags');
 		await settled([r1, r2, r3]);
 		expect([...(await analysisStates(testDb(), [r1, r2, r3])).values()].map((s) => s.state)).toEqual([
@@ -543,7 +543,7 @@ describe("a run's attempts", () => {
 		expect(await processRun(runId, 'attempts test')).toBe('done');
 		const row = await testDb()('analysis_runs').where({ id: runId }).first();
 		expect(row.attempts).toBe(max);
-		// 1/(s+1)^3 with k1 = 0 certifies k2 < 4 (see ./helpers.ts), so [0, 3] passes.
+		// 1/(s+1)^3 with k1 = 0 proves k2 < 4 (see ./helpers.ts), so [0, 3] passes.
 		expect(row.verdict).toBe('pass');
 		expect(row.result.certifiedUpper).toBeCloseTo(4, 6);
 	});

@@ -312,11 +312,7 @@ describe('comparison of two baselines', () => {
 				`DC-link converter v2 (${mB2.hash.slice(0, 12)})`
 			],
 			['latest verdict', `pass (run ${run2a.id})`, `not proved (run ${run2b.id})`],
-			[
-				'certified numbers',
-				'certified upper bound 2.5 vs required 1.5',
-				'certified upper bound 1.2 vs required 1.5'
-			],
+			['proved numbers', 'proved upper bound 2.5 vs required 1.5', 'proved upper bound 1.2 vs required 1.5'],
 			['state', '✓ Verified by analysis', '✕ Not proved']
 		]);
 		expect(changed[r3.identifier]).toEqual([

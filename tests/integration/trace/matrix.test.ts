@@ -55,7 +55,7 @@ describe('trace matrix API', () => {
 			expect(body.rows.find((r) => r.identifier === id)?.stateLabel).toBe(label);
 	});
 
-	it('carries links, model version, certified numbers, evidence and open items', async () => {
+	it('carries links, model version, proved numbers, evidence and open items', async () => {
 		const body = await page('?limit=50');
 		const by = Object.fromEntries(body.rows.map((r) => [r.identifier, r])) as Record<
 			string,
@@ -66,8 +66,12 @@ describe('trace matrix API', () => {
 		expect(by[r2.identifier].parents).toEqual([r1.identifier]);
 		expect(by[r2.identifier].children).toEqual([r3.identifier, r4.identifier]);
 		expect(by[r1.identifier].model).toMatchObject({ name: 'Yaw damper', version: 1, hash: s.v1.hash });
-		// Popov, sector [0, 2], required margin 20 %: certified 3.125 against 2 x 1.2 = 2.4.
-		expect(by[r1.identifier].latestRun.numbers).toMatchObject({ certified: 3.125, required: 2.4 });
+		// Popov, sector [0, 2], required margin 20 %: proved 3.125 against 2 x 1.2 = 2.4.
+		expect(by[r1.identifier].latestRun.numbers).toMatchObject({
+			proved: 3.125,
+			certified: 3.125,
+			required: 2.4
+		});
 		expect(by[r1.identifier].evidence).toEqual({ count: 1, accepted: 1, rejected: 0, unreviewed: 0 });
 		expect(by[r4.identifier].evidence).toEqual({ count: 2, accepted: 0, rejected: 1, unreviewed: 1 });
 		expect(by[r4.identifier].blockers.map((b) => b.kind)).toEqual([
@@ -259,7 +263,7 @@ describe('spreadsheet export', () => {
 			`A derived requirement is not verified: ${s.reqs.r2.identifier}`
 		);
 		expect(rows.find((r) => r.Identifier === s.reqs.r1.identifier)).toMatchObject({
-			Certified: 3.125,
+			Proved: 3.125,
 			Required: 2.4
 		});
 	});

@@ -7,7 +7,7 @@ import {
 	type StoredRun
 } from '../../../src/lib/components/plots/verdict-picture';
 import { computeRun } from '../../../src/lib/server/analyses/compute';
-import { certifiedNumbers } from '../../../src/lib/server/trace/service';
+import { provedNumbers } from '../../../src/lib/server/trace/service';
 import { DEMO_MODELS, DEMO_REQUIREMENTS } from '../../../src/lib/server/demo/scenario';
 import { sectorGeometry } from '../../../src/lib/stability/index';
 
@@ -87,7 +87,7 @@ describe('the Nyquist picture of a circle-criterion verdict', () => {
 		// One number: the text, the marker and the stored result carry the same critical frequency.
 		expect(m.label).toBe('critical frequency ω = 4.46176 rad/s');
 		// ... and the export's Numbers column (XLSX, CSV, JSON lines) writes the same.
-		expect(certifiedNumbers(VX7_016.check, r.result, VX7_016.requiredMargin).text).toContain(
+		expect(provedNumbers(VX7_016.check, r.result, VX7_016.requiredMargin).text).toContain(
 			'critical frequency 4.46176 rad/s'
 		);
 	});

@@ -41,7 +41,7 @@ describe('the sampled sector check', () => {
 		expect(viaModule.re).toBeCloseTo(-0.1, 12);
 	});
 
-	it('agrees with the engine’s certified verdict away from the boundary', () => {
+	it('agrees with the engine’s proved verdict away from the boundary', () => {
 		const sectors: [number, number][] = [];
 		for (const k1 of [0, 0.5, 1, 2, 4, 8])
 			for (const k2 of [1, 2, 3, 5, 8, 9, 11, 12, 15, 20, 40, 100]) if (k2 > k1) sectors.push([k1, k2]);
@@ -56,7 +56,7 @@ describe('the sampled sector check', () => {
 			const check = { type: 'circle' as const, sector };
 			const sampled = sampledSectorCheck(measured, check);
 			expect(sampled.label).toBe('sampled');
-			expect(sampled.explanation).toMatch(/not a certified verdict/);
+			expect(sampled.explanation).toMatch(/not a proved verdict/);
 			// Away from the boundary: the nearest measured point is clearly on one side.
 			if (Math.abs(sampled.margin!) < 0.005) continue;
 			const certified = runCheck(model, check);

@@ -7,7 +7,7 @@
 // models themselves; popov_limits.py (mpmath) for the Popov limits in popov-limits.json.
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { runCheck, type Model } from '../../../src/lib/stability/index';
+import { analyzeCase, runCheck, type Model } from '../../../src/lib/stability/index';
 import { runCircle } from '../../../src/lib/stability/checks/circle-check';
 import { firstPositiveRoot } from '../../../src/lib/stability/isolate';
 import { preparePlant } from '../../../src/lib/stability/model';
@@ -129,6 +129,22 @@ describe('defect 9: the time budget', () => {
 		expect(ms).toBeLessThan(300);
 		// With the default budget the same check is decided.
 		expect(runCircle(plant, 0, 3e-10).verdict).toBe('pass');
+	});
+	it('a case file sets the budget (options.budgetSeconds), the path the CLI takes', () => {
+		const model = JSON.parse(JSON.stringify(ref.models.cluster40.model));
+		const out = analyzeCase({
+			model,
+			checks: [{ type: 'circle', sector: [0, 3e-10] }],
+			options: { budgetSeconds: 0.01 }
+		});
+		expect(out.results[0].verdict).toBe('inconclusive');
+		expect(out.results[0].reason).toBe('Inconclusive: time budget of 0.01 s exceeded.');
+		expect(() => analyzeCase({ model, checks: [{ type: 'positive-real' }], options: { budget: 1 } })).toThrow(
+			/options\.budget/
+		);
+		expect(() =>
+			analyzeCase({ model, checks: [{ type: 'positive-real' }], options: { budgetSeconds: 0 } })
+		).toThrow(/budgetSeconds must be above 0/);
 	});
 });
 

@@ -85,19 +85,20 @@ function notApplicableOf(perPoint: (CheckResult & { label: string })[]) {
 	return { ...marked.notApplicable!, point: perPoint.length > 1 ? marked.label : null };
 }
 
-export function computeRun(inputs: RunInputs): RunOutput {
+/** `budgetSeconds`: the time budget of each engine check (LW_ENGINE_BUDGET_SECONDS for the worker). */
+export function computeRun(inputs: RunInputs, budgetSeconds?: number): RunOutput {
 	// Validated once, with the engine's spellings of an infinite bound ("Infinity", null); the engine entry
 	// points below accept the parsed check as it is.
 	const check = parseCheck(inputs.check, 'check');
 	const points = coveredPoints(inputs.content?.operatingPoints, inputs.operatingPoints);
 	const { decide, required } = testedCheck(check, inputs.requiredMargin);
-	const agg = runCheckOnPoints(points, decide);
+	const agg = runCheckOnPoints(points, decide, { budgetSeconds });
 
 	// The proved upper bound next to the required one: for a circle check, the largest k2 proved for the
 	// same k1 (worst point); for Popov, the largest k the Popov search proves.
 	let provedUpper: number | null = null;
 	if (check.type === 'circle') {
-		const ms = runCheckOnPoints(points, { type: 'max-sector', lower: check.sector[0] });
+		const ms = runCheckOnPoints(points, { type: 'max-sector', lower: check.sector[0] }, { budgetSeconds });
 		provedUpper = num(ms.threshold);
 	} else if (check.type === 'popov') {
 		provedUpper = num(agg.threshold);

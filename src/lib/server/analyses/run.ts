@@ -117,12 +117,15 @@ export async function processRuns(
 		const t0 = performance.now();
 		let update: Record<string, unknown>;
 		try {
-			const r = computeRun({
-				check: run.check,
-				requiredMargin: run.required_margin ?? null,
-				operatingPoints: run.operating_points ?? null,
-				content: run.content
-			});
+			const r = computeRun(
+				{
+					check: run.check,
+					requiredMargin: run.required_margin ?? null,
+					operatingPoints: run.operating_points ?? null,
+					content: run.content
+				},
+				config.runs.engineBudgetSeconds
+			);
 			update = {
 				status: 'done',
 				verdict: r.verdict,

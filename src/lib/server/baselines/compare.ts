@@ -72,7 +72,7 @@ function requirementChanges(
 		y.spec ? `v${y.spec.version} ${y.spec.check}` : 'none'
 	);
 	push('verdict', 'latest verdict', verdictOf(x), verdictOf(y));
-	push('verdict', 'certified numbers', numbersOf(x), numbersOf(y));
+	push('verdict', 'proved numbers', numbersOf(x), numbersOf(y));
 	push('evidence', 'evidence', evidenceOf(a, x.identifier), evidenceOf(b, y.identifier));
 	push('state', 'state', stateWords(x), stateWords(y));
 	return out;

@@ -501,7 +501,7 @@ DEMO_REQUIREMENTS.push(
 	loop(
 		'L14',
 		['D1'],
-		'Elevon largest certified sector',
+		'Elevon largest proved sector',
 		'The elevon position loop shall remain absolutely stable for every torque gain in the sector [0, 3.0].',
 		'Headroom for a stronger motor option.',
 		'B',

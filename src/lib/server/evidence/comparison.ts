@@ -10,7 +10,7 @@ import type { MeasuredPoint } from './frequency-response';
 // What a measured frequency response says next to a stability specification:
 // 1. a SAMPLED sector check: does each measured point stay out of (or inside) the forbidden region of
 //    the circle criterion? A finite sample can miss a narrow excursion between two frequencies and says
-//    nothing about the encirclement / Hurwitz conditions, so this is never a certified verdict
+//    nothing about the encirclement / Hurwitz conditions, so this is never a proved verdict
 //    (DOMAIN.md section 3);
 // 2. model-versus-test agreement at the measured frequencies, against a tolerance on the requirement.
 
@@ -66,7 +66,7 @@ export interface SampledCheck {
 }
 
 const NOT_CERTIFIED =
-	'This is a sampled check on the measured points only; it cannot see between them and does not test the encirclement or Hurwitz conditions, so it is not a certified verdict.';
+	'This is a sampled check on the measured points only; it cannot see between them and does not test the encirclement or Hurwitz conditions, so it is not a proved verdict.';
 
 /** The forbidden region a specification implies, or null when it has none (margins, max-sector). */
 export function regionOf(

@@ -79,7 +79,7 @@ export const MATRIX_COLUMNS: SheetColumn<MatrixRow>[] = [
 		width: 16,
 		value: (r) => verdictWords(r.latestRun?.status, r.latestRun?.verdict)
 	},
-	{ header: 'Certified', width: 11, value: (r) => finite(r.latestRun?.numbers.certified) },
+	{ header: 'Proved', width: 11, value: (r) => finite(r.latestRun?.numbers.proved) },
 	{ header: 'Required', width: 11, value: (r) => finite(r.latestRun?.numbers.required) },
 	{ header: 'Numbers', width: 44, value: (r) => r.latestRun?.numbers.text ?? '' },
 	{ header: 'Evidence', width: 9, value: (r) => r.evidence.count },
@@ -114,7 +114,7 @@ const ANALYSIS_COLUMNS: SheetColumn<AnalysisLine>[] = [
 	{ header: 'Engine version', width: 10, value: (r) => r.latestRun.engineVersion },
 	{ header: 'Specification', width: 36, value: (r) => `v${r.latestRun.specVersion}: ${r.latestRun.check}` },
 	{ header: 'Verdict', width: 16, value: (r) => verdictWords(r.latestRun.status, r.latestRun.verdict) },
-	{ header: 'Certified', width: 11, value: (r) => finite(r.latestRun.numbers.certified) },
+	{ header: 'Proved', width: 11, value: (r) => finite(r.latestRun.numbers.proved) },
 	{ header: 'Required', width: 11, value: (r) => finite(r.latestRun.numbers.required) },
 	{ header: 'Numbers', width: 44, value: (r) => r.latestRun.numbers.text },
 	{ header: 'Worst operating point', width: 22, value: (r) => r.latestRun.worstPoint ?? '' },

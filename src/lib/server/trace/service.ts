@@ -14,19 +14,23 @@ import * as repo from './repo';
 import type { MatrixQuery } from './schema';
 
 // The trace matrix: one row per requirement with its links, the model version in force, the latest
-// analysis and its certified numbers, evidence counts, and its one verification state with what
+// analysis and its proved numbers, evidence counts, and its one verification state with what
 // blocks it (src/lib/server/verification; nothing here decides a state).
 // The same rows, with the texts, analyses and evidence, form a "snapshot": what the exports write and
 // what a baseline freezes (src/lib/server/baselines).
 
-export interface CertifiedNumbers {
-	/** The certified figure the requirement is judged on (largest certified upper bound, margin ...). */
+export interface ProvedNumbers {
+	/** The proved figure the requirement is judged on (largest proved upper bound, margin ...). */
+	proved: number | null;
+	/** @deprecated The same as `proved`, under its old name, kept in the API for one version. */
 	certified: number | null;
 	/** What the specification asks of it (with the required margin applied), when it is a number. */
 	required: number | null;
-	/** In words, e.g. "certified upper bound 2.31 vs required 1.995 x 1.2 = 2.394". */
+	/** In words, e.g. "proved upper bound 2.31 vs required 1.995 x 1.2 = 2.394". */
 	text: string;
 }
+
+const withAlias = (n: Omit<ProvedNumbers, 'certified'>): ProvedNumbers => ({ ...n, certified: n.proved });
 
 export interface LatestRun {
 	id: number;
@@ -34,7 +38,7 @@ export interface LatestRun {
 	verdict: string | null;
 	/** The run's inputs are no longer the current ones (a newer revision, specification or model version). */
 	stale: boolean;
-	numbers: CertifiedNumbers;
+	numbers: ProvedNumbers;
 	worstPoint: string | null;
 	finishedAt: string | null;
 	modelVersionId: number;
@@ -130,7 +134,7 @@ function num(v: unknown): number | null {
 	return null;
 }
 
-/** Four significant figures, as people read certified bounds. */
+/** Four significant figures, as people read proved bounds. */
 export function fmt(x: number | null | undefined): string {
 	if (x === null || x === undefined || Number.isNaN(x)) return '–';
 	if (x === Infinity) return '∞';
@@ -160,16 +164,16 @@ export function checkText(check: Record<string, unknown> | null | undefined): st
 }
 
 /**
- * The certified figure against the required one. For sector checks the figure is the largest
- * certified upper bound (result.threshold) against the specification's k2, raised by the required
+ * The proved figure against the required one. For sector checks the figure is the largest
+ * proved upper bound (result.threshold) against the specification's k2, raised by the required
  * margin (k2 x (1 + margin)); for margin checks the gain and phase margins against their minimums.
  */
-export function certifiedNumbers(
+export function provedNumbers(
 	check: Record<string, unknown> | null | undefined,
 	result: Record<string, unknown> | null | undefined,
 	requiredMargin: number | null | undefined
-): CertifiedNumbers {
-	if (!result) return { certified: null, required: null, text: '' };
+): ProvedNumbers {
+	if (!result) return withAlias({ proved: null, required: null, text: '' });
 	const numbers = (result.numbers ?? {}) as Record<string, unknown>;
 	if (check?.type === 'margins') {
 		const gm = num(numbers.gainMarginDb);
@@ -180,14 +184,14 @@ export function certifiedNumbers(
 			`PM ${fmt(pm)} deg` +
 				(check.minPhaseMarginDeg !== undefined ? ` (min ${fmt(num(check.minPhaseMarginDeg))})` : '')
 		);
-		return { certified: gm, required: num(check.minGainMarginDb), text: parts.join(', ') };
+		return withAlias({ proved: gm, required: num(check.minGainMarginDb), text: parts.join(', ') });
 	}
 	if (check?.type === 'positive-real') {
-		return {
-			certified: num(result.margin),
+		return withAlias({
+			proved: num(result.margin),
 			required: null,
 			text: `class ${String(result.class ?? 'neither')}`
-		};
+		});
 	}
 	const sector = check?.sector as unknown[] | undefined;
 	const k2 = sector ? num(sector[1]) : null;
@@ -203,15 +207,15 @@ export function certifiedNumbers(
 				? `required ${fmt(k2)} x ${fmt(1 + requiredMargin)} = ${fmt(required)}`
 				: `required ${fmt(k2)}`;
 	if (bound !== null) {
-		return {
-			certified: bound,
+		return withAlias({
+			proved: bound,
 			required,
-			text: `certified upper bound ${fmt(bound)}${reqText ? ' vs ' + reqText : ''}${critical}`
-		};
+			text: `proved upper bound ${fmt(bound)}${reqText ? ' vs ' + reqText : ''}${critical}`
+		});
 	}
 	const margin = num(result.margin);
-	return {
-		certified: null,
+	return withAlias({
+		proved: null,
 		required,
 		text:
 			[
@@ -220,7 +224,7 @@ export function certifiedNumbers(
 			]
 				.filter(Boolean)
 				.join(', ') + critical
-	};
+	});
 }
 
 function toRow(r: repo.MatrixDbRow, v: RequirementVerification): MatrixRow {
@@ -252,7 +256,7 @@ function toRow(r: repo.MatrixDbRow, v: RequirementVerification): MatrixRow {
 					status: r.latest_status ?? '',
 					verdict: r.latest_verdict,
 					stale: v.currentRunId === null || v.currentRunId !== Number(r.latest_run_id),
-					numbers: certifiedNumbers(r.latest_spec_check, r.latest_result, r.required_margin),
+					numbers: provedNumbers(r.latest_spec_check, r.latest_result, r.required_margin),
 					worstPoint: r.latest_worst_point,
 					finishedAt: iso(r.latest_finished_at),
 					modelVersionId: Number(r.latest_model_version_id),
