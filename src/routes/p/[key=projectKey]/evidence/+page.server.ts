@@ -1,8 +1,9 @@
 import { fail, isHttpError, redirect } from '@sveltejs/kit';
+import { formErrors } from '$lib/forms/errors';
 import { actorOf } from '$lib/server/audit';
 import { requireRole } from '$lib/server/auth';
 import { config } from '$lib/server/config';
-import { ServiceError, type FieldErrors } from '$lib/server/errors';
+import { ServiceError } from '$lib/server/errors';
 import { UPLOAD_ROLES } from '$lib/server/evidence/guard';
 import { EVIDENCE_KINDS, KIND_LABELS, VERIFICATION_METHODS } from '$lib/server/evidence/schema';
 import {
@@ -61,7 +62,7 @@ export const actions = {
 				return fail(e.status, {
 					action: 'upload',
 					values,
-					errors: { ...e.fields, _: e.message } as FieldErrors
+					errors: formErrors(e.message, e.fields, 'Nothing was stored')
 				});
 			}
 			if (isHttpError(e)) throw e;

@@ -1,8 +1,9 @@
 import { error, fail, redirect } from '@sveltejs/kit';
+import { formErrors } from '$lib/forms/errors';
 import { actorOf } from '$lib/server/audit';
 import { requireRole } from '$lib/server/auth';
 import { config } from '$lib/server/config';
-import { ServiceError, type FieldErrors } from '$lib/server/errors';
+import { ServiceError } from '$lib/server/errors';
 import { REVIEW_ROLES, TOLERANCE_ROLES, UPLOAD_ROLES } from '$lib/server/evidence/guard';
 import {
 	EVIDENCE_KINDS,
@@ -42,7 +43,7 @@ function failed(action: string, e: unknown) {
 		return fail(e.status, {
 			action,
 			values: submittedFields.get(e) ?? {},
-			errors: { ...e.fields, _: e.message } as FieldErrors
+			errors: formErrors(e.message, e.fields, 'Nothing was stored')
 		});
 	}
 	throw e;
