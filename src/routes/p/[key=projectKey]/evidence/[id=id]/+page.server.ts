@@ -38,11 +38,15 @@ async function guard(event: RequestEvent, roles?: Parameters<typeof requireRole>
 	return { ...access, id };
 }
 
-function failed(action: string, e: unknown) {
+/** A refused action: its errors and what was submitted (text fields), so the form shows it again. */
+function failed(action: string, e: unknown, fields: Record<string, FormDataEntryValue> = {}) {
 	if (e instanceof ServiceError) {
+		const typed = Object.fromEntries(
+			Object.entries(fields).filter((f): f is [string, string] => typeof f[1] === 'string')
+		);
 		return fail(e.status, {
 			action,
-			values: submittedFields.get(e) ?? {},
+			values: submittedFields.get(e) ?? typed,
 			errors: formErrors(e.message, e.fields, 'Nothing was stored')
 		});
 	}
@@ -106,7 +110,7 @@ export const actions = {
 		try {
 			await reviewEvidence({ evidenceId: id, project, actor: actorOf(event.locals), role, fields });
 		} catch (e) {
-			return failed('review', e);
+			return failed('review', e, fields);
 		}
 		return { action: 'review', ok: true };
 	},
@@ -148,7 +152,7 @@ export const actions = {
 			const r = await setTolerance({ project, actor: actorOf(event.locals), fields });
 			return { action: 'tolerance', ok: true, requirement: r.requirement };
 		} catch (e) {
-			return failed('tolerance', e);
+			return failed('tolerance', e, fields);
 		}
 	}
 } satisfies Actions;
