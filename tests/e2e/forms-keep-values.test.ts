@@ -1,7 +1,16 @@
-import { createHash } from 'node:crypto';
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { addMember, closeTestDb, createProject, createUser, testDb, unique } from '../factories';
+import {
+	addMember,
+	closeTestDb,
+	createModel,
+	createModelVersion,
+	createProject,
+	createUser,
+	lagModel,
+	testDb,
+	unique
+} from '../factories';
 import { launchBrowser, signInPage } from '../helpers/browser';
 import { env } from '../helpers/env';
 import { createRequirement } from '../integration/evidence/fixtures';
@@ -68,18 +77,8 @@ describe.each([true, false])('forms keep values (JavaScript %s)', (javaScriptEna
 		const p = await createProject();
 		await addMember(u.id, p.id, 'engineer');
 		const req = await createRequirement(p.id);
-		const content = {
-			operatingPoints: [{ label: 'hover', model: { kind: 'tf', num: [1], den: [0.05, 1] } }]
-		};
-		const [m] = await testDb()('models')
-			.insert({ project_id: p.id, name: 'pitch actuator', latest_version: 1 })
-			.returning('id');
-		await testDb()('model_versions').insert({
-			model_id: m.id,
-			version: 1,
-			content: JSON.stringify(content),
-			content_hash: createHash('sha256').update(JSON.stringify(content)).digest('hex')
-		});
+		const model = await createModel(p.id, { name: 'pitch actuator' });
+		await createModelVersion(model.id, lagModel(1, 0.05));
 		const ctx = await browser.newContext({ javaScriptEnabled });
 		const page = await ctx.newPage();
 		await signInPage(page, u.email, u.password);
