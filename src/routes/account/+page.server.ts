@@ -60,8 +60,13 @@ export const actions = {
 	createToken: async (event) => {
 		const { user } = await access(event, 'account');
 		const form = Object.fromEntries(await event.request.formData());
+		// What was chosen and typed, shown again after a refusal (text fields only).
+		const values = Object.fromEntries(
+			['projectKey', 'role', 'label'].map((k) => [k, typeof form[k] === 'string' ? form[k] : ''])
+		);
 		const parsed = tokenForm.safeParse(form);
-		if (!parsed.success) return fail(400, { action: 'createToken', errors: fieldErrors(parsed.error) });
+		if (!parsed.success)
+			return fail(400, { action: 'createToken', values, errors: fieldErrors(parsed.error) });
 		try {
 			const t = await createToken(actorOf(event.locals), user, parsed.data);
 			// Shown once: only its hash is stored.
@@ -70,6 +75,7 @@ export const actions = {
 			if (e instanceof ServiceError)
 				return fail(e.status, {
 					action: 'createToken',
+					values,
 					errors: { ...e.fields, _: e.message } as FieldErrors
 				});
 			throw e;

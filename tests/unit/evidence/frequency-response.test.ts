@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import {
+	MAX_PROBLEMS,
 	ResponseParseError,
 	parseFrequencyResponse
 } from '../../../src/lib/server/evidence/frequency-response';
@@ -132,6 +133,32 @@ describe('parsing measured frequency responses', () => {
 		});
 		it('a header without data', () => {
 			expect(parseError('frequency (Hz),magnitude (dB),phase (deg)\n').message).toMatch(/no data rows/);
+		});
+	});
+
+	describe('a garbled file lists every problem, not only the first', () => {
+		it('missing units, text, a short row and a falling frequency are all reported', () => {
+			// Row 1 header without units; row 3 "abc"; row 4 has no phase; row 5 goes back to 1.
+			const e = parseError('f,mag,phase\n1,0.5,-10\n2,abc,-20\n3,0.4\n1,0.3,-30\n');
+			expect(e.problems.map((p) => [p.field, p.row])).toEqual([
+				['frequencyUnit', null],
+				['magnitudeUnit', null],
+				['file', 3],
+				['file', 4],
+				['file', 5]
+			]);
+			// The first problem is still the error's own message (what the API has always answered).
+			expect(e.message).toMatch(/header does not say which unit the frequency is in/);
+			expect(e.problems[2].message).toBe('Row 3, column "mag": "abc" is not a number.');
+			expect(e.problems[3].message).toBe('Row 4, column "phase": the cell is empty.');
+			expect(e.problems[4].message).toMatch(/Row 5.*does not increase \(row 4 has 3\)/);
+			expect(e.more).toBe(0);
+		});
+		it('stops listing at MAX_PROBLEMS and counts the rest', () => {
+			const rows = Array.from({ length: MAX_PROBLEMS + 7 }, (_, i) => `${i + 1},x,0`).join('\n');
+			const e = parseError(`frequency (Hz),magnitude (dB),phase (deg)\n${rows}\n`);
+			expect(e.problems.length).toBe(MAX_PROBLEMS);
+			expect(e.more).toBe(7);
 		});
 	});
 });

@@ -36,16 +36,59 @@ export interface MeasuredResponse {
 	points: MeasuredPoint[];
 }
 
+export type ProblemField = 'file' | 'frequencyUnit' | 'magnitudeUnit' | 'layout';
+
+/** One thing wrong with a file (a garbled file has several; all are reported, up to MAX_PROBLEMS). */
+export interface ResponseProblem {
+	message: string;
+	field: ProblemField;
+	row: number | null;
+	column: string | null;
+}
+
+/**
+ * The file was refused. `message`, `field`, `row` and `column` describe the first problem found;
+ * `problems` lists every problem found (at most MAX_PROBLEMS), `more` counts the ones left out.
+ */
 export class ResponseParseError extends Error {
+	public problems: ResponseProblem[];
+	public more = 0;
 	constructor(
 		message: string,
 		/** The form or API field to fix when the problem is a missing choice (frequencyUnit, magnitudeUnit, layout). */
-		public field: 'file' | 'frequencyUnit' | 'magnitudeUnit' | 'layout' = 'file',
+		public field: ProblemField = 'file',
 		public row: number | null = null,
 		public column: string | null = null
 	) {
 		super(message);
 		this.name = 'ResponseParseError';
+		this.problems = [{ message, field, row, column }];
+	}
+}
+
+/** How many problems one refusal lists: enough to fix a garbled file in one go, few enough to read. */
+export const MAX_PROBLEMS = 20;
+
+/** Problems found so far; `fail()` throws them together once nothing more can be checked. */
+class Problems {
+	list: ResponseProblem[] = [];
+	count = 0;
+	add(
+		message: string,
+		field: ProblemField = 'file',
+		row: number | null = null,
+		column: string | null = null
+	) {
+		this.count += 1;
+		if (this.list.length < MAX_PROBLEMS) this.list.push({ message, field, row, column });
+	}
+	throwIfAny(): void {
+		if (this.count === 0) return;
+		const [first] = this.list;
+		const e = new ResponseParseError(first.message, first.field, first.row, first.column);
+		e.problems = this.list;
+		e.more = this.count - this.list.length;
+		throw e;
 	}
 }
 
@@ -136,10 +179,15 @@ function splitRows(raw: string): { rows: { cells: string[]; line: number }[]; de
 	return { rows, delimiter };
 }
 
-/** Parse a measured frequency response. Throws ResponseParseError naming the row and column. */
+/**
+ * Parse a measured frequency response. Throws ResponseParseError naming the row and column of every
+ * problem found: the header and unit choices first, then every data row (a file is checked to its end,
+ * not only to its first bad cell).
+ */
 export function parseFrequencyResponse(text: string, opts: ParseOptions = {}): MeasuredResponse {
 	const { rows, delimiter } = splitRows(text.replace(/^\uFEFF/, ''));
 	if (rows.length === 0) throw new ResponseParseError('The file holds no rows.');
+	const problems = new Problems();
 	const first = rows[0];
 	const hasHeader = first.cells.some((c) => !looksNumeric(c));
 	let header: string[] | null = null;
@@ -167,7 +215,7 @@ export function parseFrequencyResponse(text: string, opts: ParseOptions = {}): M
 			}
 		});
 		if (found.frequency === undefined) {
-			throw new ResponseParseError(
+			problems.add(
 				`Row ${first.line}: no frequency column in the header (${header.join(', ')}); name one "frequency", "freq", "f" or "w".`,
 				'file',
 				first.line,
@@ -177,7 +225,7 @@ export function parseFrequencyResponse(text: string, opts: ParseOptions = {}): M
 		const magPhase = found.magnitude !== undefined || found.phase !== undefined;
 		const reIm = found.real !== undefined || found.imaginary !== undefined;
 		if (magPhase && reIm && !opts.layout) {
-			throw new ResponseParseError(
+			problems.add(
 				'The header has both magnitude/phase and real/imaginary columns: choose which pair to use.',
 				'layout'
 			);
@@ -187,7 +235,7 @@ export function parseFrequencyResponse(text: string, opts: ParseOptions = {}): M
 			layout === 'magnitude-phase' ? ['magnitude', 'phase'] : ['real', 'imaginary'];
 		for (const r of [ra, rb]) {
 			if (found[r] === undefined) {
-				throw new ResponseParseError(
+				problems.add(
 					`Row ${first.line}: the ${r} column is missing (the header is: ${header.join(', ')}).`,
 					'file',
 					first.line,
@@ -195,7 +243,9 @@ export function parseFrequencyResponse(text: string, opts: ParseOptions = {}): M
 				);
 			}
 		}
-		col = { frequency: found.frequency, a: found[ra]!, b: found[rb]! };
+		// Without the three columns the rows cannot be read: report what is known so far.
+		problems.throwIfAny();
+		col = { frequency: found.frequency!, a: found[ra]!, b: found[rb]! };
 		frequencyUnit = frequencyUnitOf(header[col.frequency]);
 		if (layout === 'magnitude-phase') {
 			magnitudeUnit = magnitudeUnitOf(header[col.a]);
@@ -221,25 +271,23 @@ export function parseFrequencyResponse(text: string, opts: ParseOptions = {}): M
 	}
 
 	// Units: the header wins; a choice that contradicts it is an error rather than silently ignored.
+	// A missing unit is reported and the rows are still checked (their checks do not need it).
 	const choose = <U extends string>(
 		fromHeader: U | null,
 		chosen: U | undefined,
 		field: 'frequencyUnit' | 'magnitudeUnit',
 		what: string
-	): U => {
+	): U | null => {
 		if (fromHeader && chosen && fromHeader !== chosen) {
-			throw new ResponseParseError(
-				`The header gives the ${what} in ${fromHeader} but ${chosen} was chosen.`,
-				field
-			);
+			problems.add(`The header gives the ${what} in ${fromHeader} but ${chosen} was chosen.`, field);
+			return fromHeader;
 		}
-		const u = fromHeader ?? chosen;
-		if (!u) {
-			throw new ResponseParseError(
+		const u = fromHeader ?? chosen ?? null;
+		if (!u)
+			problems.add(
 				`The ${hasHeader ? 'header does not say' : 'file has no header to say'} which unit the ${what} is in: choose one.`,
 				field
 			);
-		}
 		return u;
 	};
 	const fUnit = choose(frequencyUnit, opts.frequencyUnit, 'frequencyUnit', 'frequency');
@@ -252,71 +300,72 @@ export function parseFrequencyResponse(text: string, opts: ParseOptions = {}): M
 	const roleA: Role = layout === 'magnitude-phase' ? 'magnitude' : 'real';
 	const roleB: Role = layout === 'magnitude-phase' ? 'phase' : 'imaginary';
 	const body = hasHeader ? rows.slice(1) : rows;
-	if (body.length === 0) throw new ResponseParseError('The file has a header but no data rows.');
-	if (body.length > MAX_POINTS)
-		throw new ResponseParseError(
-			`The file has ${body.length} data rows; at most ${MAX_POINTS} are accepted.`
-		);
+	if (body.length === 0) problems.add('The file has a header but no data rows.');
+	if (body.length > MAX_POINTS) {
+		problems.add(`The file has ${body.length} data rows; at most ${MAX_POINTS} are accepted.`);
+		problems.throwIfAny();
+	}
 
-	const cell = (r: { cells: string[]; line: number }, index: number, role: Role): number => {
+	/** A cell's number, or null after recording why it is not one. */
+	const cell = (r: { cells: string[]; line: number }, index: number, role: Role): number | null => {
 		const raw = r.cells[index];
 		if (raw === undefined || raw === '') {
-			throw new ResponseParseError(
-				`Row ${r.line}, column "${names[role]}": the cell is empty.`,
-				'file',
-				r.line,
-				names[role]
-			);
+			problems.add(`Row ${r.line}, column "${names[role]}": the cell is empty.`, 'file', r.line, names[role]);
+			return null;
 		}
 		const v = Number(normaliseNumber(raw));
 		if (!Number.isFinite(v)) {
-			throw new ResponseParseError(
+			problems.add(
 				`Row ${r.line}, column "${names[role]}": "${raw}" is not a number.`,
 				'file',
 				r.line,
 				names[role]
 			);
+			return null;
 		}
 		return v;
 	};
 
 	const points: MeasuredPoint[] = [];
-	let prevW = -Infinity;
+	// Increase is checked on the frequency as written: Hz and rad/s differ by a positive factor.
+	let prevF = -Infinity;
 	let prevLine = 0;
 	for (const r of body) {
 		const f = cell(r, col.frequency, 'frequency');
 		const a = cell(r, col.a, roleA);
 		const b = cell(r, col.b, roleB);
-		if (!(f > 0)) {
-			throw new ResponseParseError(
+		if (f !== null && !(f > 0)) {
+			problems.add(
 				`Row ${r.line}, column "${names.frequency}": frequency ${f} is not positive.`,
 				'file',
 				r.line,
 				names.frequency
 			);
+		} else if (f !== null) {
+			if (!(f > prevF)) {
+				problems.add(
+					`Row ${r.line}, column "${names.frequency}": frequency ${f} does not increase (row ${prevLine} has ${prevF}).`,
+					'file',
+					r.line,
+					names.frequency
+				);
+			}
+			prevF = f;
+			prevLine = r.line;
 		}
-		const w = fUnit === 'Hz' ? 2 * Math.PI * f : f;
-		if (!(w > prevW)) {
-			throw new ResponseParseError(
-				`Row ${r.line}, column "${names.frequency}": frequency ${f} does not increase (row ${prevLine} has ${fUnit === 'Hz' ? prevW / (2 * Math.PI) : prevW}).`,
+		if (layout === 'magnitude-phase' && mUnit === 'abs' && a !== null && a < 0) {
+			problems.add(
+				`Row ${r.line}, column "${names.magnitude}": an absolute magnitude cannot be negative (${a}).`,
 				'file',
 				r.line,
-				names.frequency
+				names.magnitude
 			);
 		}
-		prevW = w;
-		prevLine = r.line;
+		if (problems.count > 0 || f === null || a === null || b === null || !fUnit) continue;
+		const w = fUnit === 'Hz' ? 2 * Math.PI * f : f;
 		let re: number;
 		let im: number;
 		if (layout === 'magnitude-phase') {
-			if (mUnit === 'abs' && a < 0) {
-				throw new ResponseParseError(
-					`Row ${r.line}, column "${names.magnitude}": an absolute magnitude cannot be negative (${a}).`,
-					'file',
-					r.line,
-					names.magnitude
-				);
-			}
 			const mag = mUnit === 'dB' ? 10 ** (a / 20) : a;
 			const phi = pUnit === 'rad' ? b : (b * Math.PI) / 180;
 			re = mag * Math.cos(phi);
@@ -327,9 +376,10 @@ export function parseFrequencyResponse(text: string, opts: ParseOptions = {}): M
 		}
 		points.push({ w, re, im, row: r.line });
 	}
+	problems.throwIfAny();
 	return {
 		layout,
-		units: { frequency: fUnit, magnitude: mUnit, phase: pUnit },
+		units: { frequency: fUnit!, magnitude: mUnit, phase: pUnit },
 		delimiter,
 		header,
 		points

@@ -106,11 +106,25 @@ function parseMeasured(
 		return parseFrequencyResponse(file.text, fields as Parameters<typeof parseFrequencyResponse>[1]);
 	} catch (e) {
 		if (e instanceof ResponseParseError) {
+			// Every problem found, under the field to fix (one per line), so a garbled file is fixed in one go.
+			const fields: Record<string, string> = {};
+			for (const p of e.problems)
+				fields[p.field] = fields[p.field] ? `${fields[p.field]}\n${p.message}` : p.message;
+			if (e.more) fields.file = `${fields.file ? `${fields.file}\n` : ''}…and ${e.more} more.`;
+			const total = e.problems.length + e.more;
 			throw new ServiceError(
 				422,
-				e.message,
-				{ [e.field]: e.message },
-				{ row: e.row, column: e.column, needs: e.field === 'file' ? undefined : e.field }
+				total === 1
+					? e.message
+					: `The file was refused: ${total} problems, listed by field. First: ${e.message}`,
+				fields,
+				{
+					row: e.row,
+					column: e.column,
+					needs: e.field === 'file' ? undefined : e.field,
+					problems: e.problems,
+					more: e.more
+				}
 			);
 		}
 		throw e;

@@ -24,18 +24,20 @@ export const actions = {
 			return fail(404, { errors: {} as FieldErrors, message: 'This invitation link is not valid any more.' });
 		const existing = await accountExists(inv.email);
 		const form = Object.fromEntries(await request.formData());
+		// The name is shown again after a refusal; the passwords never are.
+		const values = { displayName: typeof form.displayName === 'string' ? form.displayName : '' };
 		let input: { displayName?: string; password?: string } = {};
 		if (!existing) {
 			const parsed = setPasswordForm.safeParse(form);
-			if (!parsed.success) return fail(400, { errors: fieldErrors(parsed.error), message: null });
+			if (!parsed.success) return fail(400, { values, errors: fieldErrors(parsed.error), message: null });
 			if (!parsed.data.displayName)
-				return fail(400, { errors: { displayName: 'Enter a name.' } as FieldErrors, message: null });
+				return fail(400, { values, errors: { displayName: 'Enter a name.' } as FieldErrors, message: null });
 			input = parsed.data;
 		}
 		try {
 			await acceptInvitation(params.token, input);
 		} catch (e) {
-			if (e instanceof ServiceError) return fail(e.status, { errors: e.fields, message: e.message });
+			if (e instanceof ServiceError) return fail(e.status, { values, errors: e.fields, message: e.message });
 			throw e;
 		}
 		redirect(303, `/signin?redirectTo=${encodeURIComponent('/p/' + inv.project_key)}`);

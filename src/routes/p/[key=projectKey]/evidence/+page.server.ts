@@ -1,8 +1,9 @@
 import { fail, isHttpError, redirect } from '@sveltejs/kit';
+import { formErrors } from '$lib/forms/errors';
 import { actorOf } from '$lib/server/audit';
 import { access } from '$lib/server/auth';
 import { config } from '$lib/server/config';
-import { ServiceError, type FieldErrors } from '$lib/server/errors';
+import { ServiceError } from '$lib/server/errors';
 import { EVIDENCE_KINDS, KIND_LABELS, VERIFICATION_METHODS } from '$lib/server/evidence/schema';
 import {
 	listEvidence,
@@ -60,7 +61,7 @@ export const actions = {
 				return fail(e.status, {
 					action: 'upload',
 					values,
-					errors: { ...e.fields, _: e.message } as FieldErrors
+					errors: formErrors(e.message, e.fields, 'Nothing was stored')
 				});
 			}
 			if (isHttpError(e)) throw e;

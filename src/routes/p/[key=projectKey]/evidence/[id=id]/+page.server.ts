@@ -1,8 +1,9 @@
 import { fail, redirect } from '@sveltejs/kit';
+import { formErrors } from '$lib/forms/errors';
 import { actorOf } from '$lib/server/audit';
 import { access, inAddress } from '$lib/server/auth';
 import { config } from '$lib/server/config';
-import { ServiceError, type FieldErrors } from '$lib/server/errors';
+import { ServiceError } from '$lib/server/errors';
 import {
 	EVIDENCE_KINDS,
 	KIND_LABELS,
@@ -24,12 +25,16 @@ import {
 import { formatBytes } from '$lib/server/evidence/upload';
 import type { Actions, PageServerLoad } from './$types';
 
-function failed(action: string, e: unknown) {
+/** A refused action: its errors and what was submitted (text fields), so the form shows it again. */
+function failed(action: string, e: unknown, fields: Record<string, FormDataEntryValue> = {}) {
 	if (e instanceof ServiceError) {
+		const typed = Object.fromEntries(
+			Object.entries(fields).filter((f): f is [string, string] => typeof f[1] === 'string')
+		);
 		return fail(e.status, {
 			action,
-			values: submittedFields.get(e) ?? {},
-			errors: { ...e.fields, _: e.message } as FieldErrors
+			values: submittedFields.get(e) ?? typed,
+			errors: formErrors(e.message, e.fields, 'Nothing was stored')
 		});
 	}
 	throw e;
@@ -91,7 +96,7 @@ export const actions = {
 		try {
 			await reviewEvidence({ evidenceId: id, project, actor: actorOf(event.locals), role, fields });
 		} catch (e) {
-			return failed('review', e);
+			return failed('review', e, fields);
 		}
 		return { action: 'review', ok: true };
 	},
@@ -135,7 +140,7 @@ export const actions = {
 			const r = await setTolerance({ project, actor: actorOf(event.locals), fields });
 			return { action: 'tolerance', ok: true, requirement: r.requirement };
 		} catch (e) {
-			return failed('tolerance', e);
+			return failed('tolerance', e, fields);
 		}
 	}
 } satisfies Actions;

@@ -2,6 +2,9 @@ import { fail, redirect } from '@sveltejs/kit';
 import { actorOf } from '$lib/server/audit';
 import { access, inAddress } from '$lib/server/auth';
 import { ServiceError, type FieldErrors } from '$lib/server/errors';
+import { formErrors } from '$lib/forms/errors';
+import { parseJsonText } from '$lib/forms/json-text';
+import { modelIssuesInWords } from '$lib/forms/model-issue';
 import { MODEL_FILE_FORMAT } from '$lib/server/models/schema';
 import {
 	getModel,
@@ -37,15 +40,17 @@ export const load = (async (event) => {
 	};
 }) satisfies PageServerLoad;
 
-/** Field errors of the engine's paths ("operatingPoints.0.model.den") shown under the operating points. */
-function publishErrors(e: ServiceError): FieldErrors {
-	const errors: FieldErrors = { _: e.message };
-	const details = Object.entries(e.fields);
-	if (details.length) {
-		errors.operatingPoints = details.map(([k, v]) => `${k}: ${v}`).join('\n');
-		if (e.fields.note) errors.note = e.fields.note;
-	}
-	return errors;
+/**
+ * The engine's problems in the user's words, each once, under the operating points (and the note); the
+ * message at the top only says how many there are (formErrors), so nothing is shown twice.
+ */
+function publishErrors(e: ServiceError, points: unknown): FieldErrors {
+	const { note, ...rest } = e.fields;
+	const lines = modelIssuesInWords(rest, points);
+	const fields: FieldErrors = {};
+	if (lines.length) fields.operatingPoints = lines.join('\n');
+	if (note) fields.note = note;
+	return formErrors(e.message, fields, 'Nothing was published');
 }
 
 export const actions = {
@@ -59,34 +64,32 @@ export const actions = {
 		};
 		const file = form.get('file');
 		let body: unknown;
+		// The operating points as submitted, so a problem can name the point by its label.
+		let submitted: unknown;
 		try {
 			if (file instanceof File && file.size > 0) {
 				if (file.size > 2_000_000)
 					return fail(413, { action: 'publish', values, errors: { file: 'The file is larger than 2 MB.' } });
-				let parsed: unknown;
-				try {
-					parsed = JSON.parse(await file.text());
-				} catch (err) {
+				const parsed = parseJsonText(await file.text());
+				if (!parsed.ok)
 					return fail(400, {
 						action: 'publish',
 						values,
-						errors: { file: `The file is not valid JSON: ${(err as Error).message}` }
+						errors: { file: `The file is not valid JSON: ${parsed.message}.` }
 					});
-				}
-				const fromFile = parsePublish(parsed, { file: true });
+				submitted = (parsed.value as { operatingPoints?: unknown } | null)?.operatingPoints;
+				const fromFile = parsePublish(parsed.value, { file: true });
 				body = { note: values.note.trim() || fromFile.note, operatingPoints: fromFile.operatingPoints };
 			} else {
-				let points: unknown;
-				try {
-					points = JSON.parse(values.operatingPoints);
-				} catch (err) {
+				const parsed = parseJsonText(values.operatingPoints);
+				if (!parsed.ok)
 					return fail(400, {
 						action: 'publish',
 						values,
-						errors: { operatingPoints: `The operating points are not valid JSON: ${(err as Error).message}` }
+						errors: { operatingPoints: `The operating points are not valid JSON: ${parsed.message}.` }
 					});
-				}
-				body = { note: values.note, operatingPoints: points };
+				submitted = parsed.value;
+				body = { note: values.note, operatingPoints: parsed.value };
 			}
 			const r = await publishVersion(actorOf(event.locals), project.id, modelId, body);
 			redirect(
@@ -95,9 +98,12 @@ export const actions = {
 			);
 		} catch (e) {
 			if (e instanceof ServiceError) {
-				const errors = publishErrors(e);
-				if (file instanceof File && file.size > 0 && errors.operatingPoints)
+				const errors = publishErrors(e, submitted);
+				// The points came from the file: the problems are shown under the file, once.
+				if (file instanceof File && file.size > 0 && errors.operatingPoints) {
 					errors.file = errors.operatingPoints;
+					delete errors.operatingPoints;
+				}
 				return fail(e.status, { action: 'publish', values, errors });
 			}
 			throw e;
