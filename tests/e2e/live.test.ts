@@ -120,7 +120,7 @@ describe('open pages follow a saved specification without a reload', () => {
 			expect(res.status).toBe(201);
 			await expect.poll(all, { timeout: 15_000 }).toEqual(same('pending'));
 			resumeHarnessWorker();
-			await expect.poll(all, { timeout: 30_000, interval: 500 }).toEqual(same('failing'));
+			await expect.poll(all, { timeout: 30_000, interval: 500 }).toEqual(same('not-proved'));
 			// The panel names the new sector, not the old one.
 			const panelText = await reqPage.locator('[data-testid=analysis-panel]').textContent();
 			expect(panelText).toContain('sector [0, 5]');
@@ -193,7 +193,7 @@ describe('open pages follow a model publish and an evidence review without a rel
 			expect(pub.status).toBe(201);
 			await expect.poll(shown, { timeout: 15_000 }).toEqual(same('pending'));
 			resumeHarnessWorker();
-			await expect.poll(shown, { timeout: 30_000, interval: 500 }).toEqual(same('failing'));
+			await expect.poll(shown, { timeout: 30_000, interval: 500 }).toEqual(same('not-proved'));
 
 			// A certifier accepts the test evidence: the evidence panel and the matrix row follow.
 			const review = () =>

@@ -66,6 +66,8 @@ export const config = {
 			expireSeconds: Math.max(1, int('LW_RUN_EXPIRE_SECONDS', 20)),
 			holdMs: Math.max(0, int('LW_WORKER_HOLD_MS', 0)),
 			queueMaintenanceSeconds: Math.max(1, int('LW_QUEUE_MAINTENANCE_SECONDS', 2)),
+			// A run still queued after this long makes the health check say the queue is stalled.
+			queueStaleSeconds: Math.max(1, int('LW_QUEUE_STALE_SECONDS', 300)),
 			// Time budget of each engine check in a run (circle, Popov, largest sector), in seconds.
 			engineBudgetSeconds: Math.min(600, Math.max(1, int('LW_ENGINE_BUDGET_SECONDS', 5)))
 		};
