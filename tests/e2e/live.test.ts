@@ -221,7 +221,7 @@ describe('open pages follow a model publish and an evidence review without a rel
 						.first()
 						.getAttribute('data-combined')
 				)
-				.toBe(api.combined.state);
+				.toBe(api.requirement.state);
 			await tracePage.bringToFront();
 			await expect.poll(() => row().textContent(), { timeout: 15_000 }).toContain('1/1 accepted');
 

@@ -175,9 +175,9 @@ const bad: [string, unknown, string, RegExp][] = [
 	],
 	[
 		'unknown case field',
-		{ model: good, checks: [{ type: 'margins' }], options: {} },
-		'options',
-		/unknown field "options"/
+		{ model: good, checks: [{ type: 'margins' }], settings: {} },
+		'settings',
+		/unknown field "settings"/
 	],
 	[
 		'unknown operating point field',
