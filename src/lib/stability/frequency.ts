@@ -376,3 +376,20 @@ export function familyConsider(fam: CircleFamily, x: number): FrequencyMinimum {
 	if (alt.r < cur.r) fam.min = alt;
 	return fam.min!;
 }
+
+/**
+ * Re[P(jw)/Q(jw)] and Im[P(jw)/Q(jw)] / w at x = w^2 (a dyadic), computed exactly and rounded once at the end:
+ * P Q* = (pe qe + x po qo) + j w (po qe - pe qo), |Q|^2 = qe^2 + x qo^2.
+ */
+export function exactRatioAtX(P: DPoly, Q: DPoly, x: Dyadic): { re: number; imOverW: number } {
+	const p = evenOddParts(P);
+	const q = evenOddParts(Q);
+	const pe = hornerOnly(p.e, p.x, x);
+	const po = hornerOnly(p.o, p.x, x);
+	const qe = hornerOnly(q.e, q.x, x);
+	const qo = hornerOnly(q.o, q.x, x);
+	const B = addV(mulV(pe, qe), mulV(x, mulV(po, qo)));
+	const I = addV(mulV(po, qe), negV(mulV(pe, qo)));
+	const M = addV(mulV(qe, qe), mulV(x, mulV(qo, qo)));
+	return { re: ratioToNumber(B, M), imOverW: ratioToNumber(I, M) };
+}

@@ -147,3 +147,80 @@ function isolate(p: bigint[]): Isolation {
 	}
 	return { kind: 'none', nodes };
 }
+
+/**
+ * All positive roots of a square-free p (p(0) != 0), each in its own isolating interval, increasing, by the
+ * same Descartes bisection. null when the bisection goes deeper than MAX_DEPTH (not square-free, or a cluster
+ * beyond reach).
+ */
+export function allPositiveRoots(pIn: readonly bigint[]): { lo: Dyadic; hi: Dyadic }[] | null {
+	const p = pIn.slice();
+	while (p.length > 1 && p[p.length - 1] === 0n) p.pop();
+	if (p.length <= 1) return [];
+	if (p[0] === 0n) throw new RangeError('allPositiveRoots: p(0) = 0');
+	const n = p.length - 1;
+	if (signVariations(p) === 0) return [];
+	const b = positiveRootBoundLog2(p);
+	if (b === null) return [];
+	const q0 = p.map((v, i) => (b >= 0 ? v << BigInt(b * i) : v << BigInt(-b * (n - i))));
+	dropTwos(q0);
+	const out: { lo: Dyadic; hi: Dyadic }[] = [];
+	const stack: { q: bigint[]; k: number; a: bigint }[] = [{ q: q0, k: 0, a: 0n }];
+	while (stack.length) {
+		const { q, k, a } = stack.pop()!;
+		tickNow();
+		if (signVariations(q) === 0) continue;
+		const v = variationsOnUnit(q);
+		if (v === 0) continue;
+		if (v === 1) {
+			out.push({ lo: dy(a, b - k), hi: dy(a + 1n, b - k) });
+			continue;
+		}
+		if (k >= MAX_DEPTH) return null;
+		const mid = dy(2n * a + 1n, b - k - 1);
+		if (signAt(p, mid) === 0) out.push({ lo: mid, hi: mid });
+		const left = q.map((c, i) => c << BigInt(n - i));
+		dropTwos(left);
+		const right = left.slice();
+		taylorShift1(right);
+		dropTwos(right);
+		stack.push({ q: right, k: k + 1, a: 2n * a + 1n });
+		stack.push({ q: left, k: k + 1, a: 2n * a });
+	}
+	const val = (d: Dyadic) => Number(d.m) * 2 ** d.e;
+	return out.sort((u, w) => val(u.lo) - val(w.lo));
+}
+
+/**
+ * Shrink an isolating interval of a simple root of p (p changes sign across it) by exact bisection at dyadic
+ * midpoints until hi - lo <= relTol * lo. Returns the final bracket.
+ */
+export function refineRoot(
+	p: readonly bigint[],
+	lo: Dyadic,
+	hi: Dyadic,
+	relTol: number
+): { lo: Dyadic; hi: Dyadic } {
+	if (lo.m === hi.m && lo.e === hi.e) return { lo, hi };
+	const sl = signAt(p, lo);
+	if (sl === 0) return { lo, hi: lo };
+	if (signAt(p, hi) === 0) return { lo: hi, hi };
+	// Bring both ends to one exponent: lo = A 2^e, hi = B 2^e.
+	let e = Math.min(lo.e, hi.e);
+	let A = lo.m << BigInt(lo.e - e);
+	let B = hi.m << BigInt(hi.e - e);
+	for (let i = 0; i < 400; i++) {
+		// (B - A) / A <= relTol, compared in floating point on the leading bits (only a stopping rule).
+		if (A > 0n && log2Abs(B - A, 0) - log2Abs(A, 0) <= Math.log2(relTol)) break;
+		tick();
+		A <<= 1n;
+		B <<= 1n;
+		e -= 1;
+		const M = (A + B) >> 1n;
+		const s = signAt(p, { m: M, e });
+		if (s === 0) return { lo: { m: M, e }, hi: { m: M, e } };
+		if (s === sl) A = M;
+		else B = M;
+	}
+	return { lo: { m: A, e }, hi: { m: B, e } };
+}

@@ -11,4 +11,6 @@
 // 2.0.0: well-posedness and hidden modes decided before every criterion, unbounded largest sectors,
 // unknown input fields refused (verdicts change for such inputs); "certified..." fields renamed "proved...",
 // the old names kept as aliases for this version.
-export const ENGINE_VERSION = '2.0.0';
+// 2.0.1: min Re G of the positive-real check from the exact stationary points of Re G (frequency.ts);
+// linear gain range ends from exactly isolated axis crossings, the gains evaluated exactly there.
+export const ENGINE_VERSION = '2.0.1';

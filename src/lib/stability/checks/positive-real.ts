@@ -27,9 +27,10 @@ import {
 	signB
 } from '../exact';
 import { EXACT_BUDGET, certifiedHurwitz, certifiedPositiveOnHalfLine } from '../certify';
-import { divC, evalJw, toFloat, toFloatCommon } from '../fpoly';
+import { divC, evalJw, toFloat } from '../fpoly';
+import { type FrequencyMinimum, circleFamily, familyConsider, familyMinimum } from '../frequency';
 import type { Plant } from '../model';
-import { derivR, minRatioOnHalfLine, positiveRealRoots } from '../roots';
+import { derivR, positiveRealRoots } from '../roots';
 import type { CheckResult, PositiveRealClass } from '../types';
 
 const fmt = (x: number) => (Number.isFinite(x) ? Number(x.toPrecision(6)).toString() : String(x));
@@ -73,11 +74,17 @@ export function runPositiveReal(plant: Plant): CheckResult {
 	if (isZero(Ns)) return done('PR', 'G is identically zero (lossless and trivially positive real).');
 	const rd = n - degree(Ns);
 	numbers.relativeDegree = rd;
-	// Numerical min Re G for the report.
-	const [Ef, Mf] = toFloatCommon([evenRealPart(Ns, Ds), evenRealPart(Ds, Ds)]);
-	const mn = minRatioOnHalfLine(Ef, Mf);
-	numbers.minReG = Number.isFinite(mn.value) ? mn.value : null;
-	numbers.minReGFrequency = mn.x === null ? null : Math.sqrt(mn.x) * w0;
+	// min Re G for the report: the k1 = 0 family of frequency.ts, where r = Re[G/(1 + 0 G)] = Re G exactly; its
+	// minimum comes from the exact stationary points of Re G (roots of S = B'M - BM', bracketed exactly).
+	const fam = circleFamily(plant, 0);
+	const mn = { value: NaN, x: null as number | null };
+	const report = (m: FrequencyMinimum) => {
+		mn.value = m.r;
+		mn.x = m.x;
+		numbers.minReG = Number.isFinite(m.r) ? m.r : null;
+		numbers.minReGFrequency = m.x === null ? null : Math.sqrt(m.x) * w0;
+	};
+	report(familyMinimum(fam));
 	const ratioSign = signB(Ns.c[Ns.c.length - 1]) * signB(Ds.c[n]);
 	if (rd > 1) return done('neither', `relative degree ${rd} exceeds one.`);
 	if (ratioSign < 0)
@@ -103,6 +110,12 @@ export function runPositiveReal(plant: Plant): CheckResult {
 	else {
 		const pos = certifiedPositiveOnHalfLine(E, mn.x !== null ? [mn.x] : []);
 		numbers.positivityDecidedBy = pos.path;
+		// Where the exact test found Re G <= 0 that the minimum missed, look for the minimum there as well.
+		if (!pos.positive && !(mn.value <= 0)) {
+			const at =
+				pos.witness ?? (pos.rootInterval ? (pos.rootInterval[0] + pos.rootInterval[1]) / 2 : undefined);
+			if (at !== undefined && at > 0) report(familyConsider(fam, at));
+		}
 		// A frequency where Re G(jw) < 0 exactly (with D(jw) != 0 as D is Hurwitz) rules out PR as well.
 		if (!pos.positive && pos.witness !== undefined && signAt(E.c, dyadicOf(pos.witness)) < 0)
 			return done(
