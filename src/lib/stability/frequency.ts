@@ -209,7 +209,12 @@ function wRange(roots: readonly C[]): [number, number] {
 const PHI = (Math.sqrt(5) - 1) / 2;
 
 /** Golden-section minimum of f on [a, b] (Kiefer 1953) to relative width `tol`. */
-function golden(f: (w: number) => number, a: number, b: number, tol: number): { w: number; v: number } {
+export function golden(
+	f: (w: number) => number,
+	a: number,
+	b: number,
+	tol: number
+): { w: number; v: number } {
 	let c = b - PHI * (b - a);
 	let d = a + PHI * (b - a);
 	let fc = f(c);

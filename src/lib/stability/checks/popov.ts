@@ -24,7 +24,7 @@ import {
 import { type EngineOptions, tick, withBudget } from '../budget';
 import { certifiedPositiveOnHalfLine } from '../certify';
 import { toFloatCommon } from '../fpoly';
-import { circleFamily } from '../frequency';
+import { circleFamily, golden } from '../frequency';
 import type { Plant } from '../model';
 import type { C } from '../roots';
 import { popovMultipliers } from '../preflight';
@@ -139,7 +139,6 @@ function gOf(pp: PopovPolys, q: number, refine = true): { value: number; x: numb
 		if (v[i] <= (i > 0 ? v[i - 1] : Infinity) && v[i] <= (i + 1 < v.length ? v[i + 1] : Infinity))
 			locals.push(i);
 	locals.sort((i, j) => v[i] - v[j]);
-	const phi = (Math.sqrt(5) - 1) / 2;
 	if (!refine)
 		// Samples only (the search over q): the vertex of the parabola through each of the three lowest local
 		// minima and its neighbours, which is far closer to the true minimum than the sample itself.
@@ -169,29 +168,9 @@ function gOf(pp: PopovPolys, q: number, refine = true): { value: number; x: numb
 		}
 	for (const i of refine ? locals.slice(0, 2) : []) {
 		tick();
-		let a = i > 0 ? pp.ws[i - 1] : pp.ws[i] / 2;
-		let b = i + 1 < pp.ws.length ? pp.ws[i + 1] : pp.ws[i] * 2;
-		let c = b - phi * (b - a);
-		let d = a + phi * (b - a);
-		let fc = f(c);
-		let fd = f(d);
-		for (let it = 0; it < 80 && b - a > 1e-9 * b; it++) {
-			if (fc < fd) {
-				b = d;
-				d = c;
-				fd = fc;
-				c = b - phi * (b - a);
-				fc = f(c);
-			} else {
-				a = c;
-				c = d;
-				fc = fd;
-				d = a + phi * (b - a);
-				fd = f(d);
-			}
-		}
-		const w = (a + b) / 2;
-		const fv = f(w);
+		const a = i > 0 ? pp.ws[i - 1] : pp.ws[i] / 2;
+		const b = i + 1 < pp.ws.length ? pp.ws[i + 1] : pp.ws[i] * 2;
+		const { w, v: fv } = golden(f, a, b, 1e-9);
 		if (fv < best.value) best = { value: fv, x: w * w };
 	}
 	// The limit as w -> infinity: for relative degree 1, G ~ (lc N / lc D) / (jw), so the value tends to
@@ -215,29 +194,11 @@ function maximiseG(pp: PopovPolys): { q: number; g: number; x: number | null } {
 		}
 	}
 	// Golden-section search on the concave g between the neighbours of the best grid point.
-	let a = bi <= 0 ? 0 : grid[bi - 1];
-	let b = bi < 0 ? grid[0] : bi + 1 < grid.length ? grid[bi + 1] : grid[bi] * 10;
+	const a = bi <= 0 ? 0 : grid[bi - 1];
+	const b = bi < 0 ? grid[0] : bi + 1 < grid.length ? grid[bi + 1] : grid[bi] * 10;
 	const phi = (Math.sqrt(5) - 1) / 2;
-	let c = b - phi * (b - a);
-	let d = a + phi * (b - a);
-	let gc = gOf(pp, c, false).value;
-	let gd = gOf(pp, d, false).value;
-	for (let it = 0; it < 60 && b - a > 1e-9 * Math.max(1e-300, b); it++) {
-		if (gc > gd) {
-			b = d;
-			d = c;
-			gd = gc;
-			c = b - phi * (b - a);
-			gc = gOf(pp, c, false).value;
-		} else {
-			a = c;
-			c = d;
-			gc = gd;
-			d = a + phi * (b - a);
-			gd = gOf(pp, d, false).value;
-		}
-	}
-	const qm = (a + b) / 2;
+	// The maximum of g is the minimum of -g.
+	const qm = golden((q) => -gOf(pp, q, false).value, a, b, 1e-9).w;
 	let qs = gOf(pp, qm, false).value > best.g ? qm : best.q;
 	// A short golden-section search on the refined g (between the samples) around that multiplier: the
 	// samples alone misplace the maximum of g where it is a kink.
