@@ -7,7 +7,8 @@ import { runPositiveReal } from './checks/positive-real';
 import { preparePlant } from './model';
 import { maxSectorLimits, popovAfter, preflight } from './preflight';
 import { type Check, type Model, ModelInputError, parseCase, parseCheck, parseModel } from './schema';
-import type { EngineOptions } from './budget';
+import { type EngineOptions, withBudget } from './budget';
+import { budgetResult } from './checks/circle-check';
 import type { CheckResult, Verdict } from './types';
 
 // Parsed models by input object, so repeated checks on the same model reuse its exact polynomials.
@@ -29,6 +30,22 @@ function validModel(modelIn: unknown, path: string): Model {
  * the criterion. Every entry point below validates its input once and then comes here.
  */
 function runValidated(model: Model, check: Check, opts: EngineOptions): CheckResult {
+	// One budget over the whole check: the model's exact polynomials and the preflight's exact gcd count
+	// too, so no input can hold a worker past it (the criteria's own budgets then keep this deadline).
+	return withBudget(
+		opts.budgetSeconds,
+		() => runBudgeted(model, check, opts),
+		(e) =>
+			budgetResult(
+				check.type,
+				e.message,
+				'The check stopped at its time budget before it reached a decision; nothing is claimed for this model and sector.',
+				{}
+			)
+	);
+}
+
+function runBudgeted(model: Model, check: Check, opts: EngineOptions): CheckResult {
 	const plant = preparePlant(model);
 	const refused = preflight(plant, model, check);
 	if (refused) return refused;
