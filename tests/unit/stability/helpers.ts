@@ -141,11 +141,13 @@ export function refLimitFromFactors(
 		const z = wn > 0 ? Math.max(1e-6, -p.re / wn) : 1;
 		for (let t = -6; t <= 6; t += 0.05) ws.push(wn * (1 + t * z));
 	}
-	// Repeated poles give repeated grid points: keep each once, so every bracket has width.
+	// Repeated (or nearly repeated) poles give repeated grid points: keep each once, so every bracket has
+	// width. Points within 1e-9 of each other count as one: two grids meeting at 0.98 and 0.98 - 4e-16 once
+	// made a bracket too narrow to hold the true minimiser 0.98038 next to them.
 	const pts = ws
 		.filter((w) => w >= 0)
 		.sort((a, b) => a - b)
-		.filter((w, i, all) => i === 0 || w > all[i - 1])
+		.filter((w, i, all) => i === 0 || w > all[i - 1] * (1 + 1e-9))
 		.map((w) => ({ w, v: f(w) }));
 	const local: number[] = [];
 	for (let i = 0; i < pts.length; i++) {

@@ -252,6 +252,24 @@ describe('high order and wide coefficient spans', () => {
 });
 
 describe('a case fast-check found', () => {
+	it('a nearly double lightly damped mode: the limit agrees with the reference from the factors (seed 38406113)', () => {
+		// Re G from the factors is -362.18469352 at 0.98038196 rad/s (checked by direct evaluation of the
+		// factors; the engine's own witness frequency is not used to build the reference).
+		const ps = [
+			{ re: -1, im: 0 },
+			{ re: -0.02000000000000003, im: 0.999799979995999 },
+			{ re: -0.02000000000000003, im: -0.999799979995999 },
+			{ re: -0.02, im: 0.999799979995999 },
+			{ re: -0.02, im: -0.999799979995999 },
+			{ re: -0.2503504129589584, im: 0.9681552926732772 },
+			{ re: -0.2503504129589584, im: -0.9681552926732772 }
+		];
+		const dc = ps.reduce((m, p) => m * Math.hypot(p.re, p.im), 1);
+		const ref = refLimitFromFactors(ps, [], dc);
+		expect(ref.minReG).toBeCloseTo(-362.18469352, 6);
+		expectLimit(runCheck(zpk(ps, [], dc), { type: 'max-sector', lower: 0 }), ref);
+	});
+
 	it('a 4-fold lightly damped mode: the bracket holds the reference limit within 1e-9 (issue 11)', () => {
 		// Poles found by the property above (seed 10474552): -0.02 ± 0.9998j four times, -0.1108 ± 5.505j;
 		// unit DC gain. The limit is computed independently from the factors (refLimitFromFactors), and exactly
