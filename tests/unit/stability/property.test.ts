@@ -14,6 +14,10 @@ import { describe, expect, it } from 'vitest';
 import { poles, runCheck, toTransferFunction, type Model } from '../../../src/lib/stability/index';
 import { companionRoots, controllableForm, gJwBig, refLimitFromFactors, zpkJw } from './helpers';
 
+// CI runs one fixed seed, so a submission's result can be reproduced; elsewhere each run draws its own seed
+// and explores new cases (a failure prints its seed; keep what it finds as a case below).
+if (process.env.CI) fc.configureGlobal({ seed: 20261202 });
+
 type Root = { re: number; im: number };
 
 /** Stable poles from known factors: real poles and lightly-to-well damped pairs, magnitudes 10^lo..10^hi. */
@@ -50,18 +54,27 @@ const zpk = (ps: Root[], zs: Root[], gain: number): Model => ({
 
 const num = (v: unknown) => (v === 'Infinity' ? Infinity : Number(v));
 
-/** The engine's largest sector for k1 = 0 agrees with the reference limit: never above it, within 1e-9. */
-function expectLimit(r: ReturnType<typeof runCheck>, ref: { limit: number; w: number }, rel = 1e-9) {
+/**
+ * The engine's largest sector for k1 = 0 agrees with the reference limit: never above it (to `slack`, 1e-12
+ * for a plant that is exactly the factors; a rounded form, such as a similarity transform in doubles, is a
+ * slightly different plant and gets its rounding as slack), within `rel` below it.
+ */
+function expectLimit(
+	r: ReturnType<typeof runCheck>,
+	ref: { limit: number; w: number },
+	rel = 1e-9,
+	slack = 1e-12
+) {
 	expect(r.verdict).toBe('pass');
 	const t = num(r.threshold);
 	if (ref.limit === Infinity) {
 		expect(t).toBe(Infinity);
 		return;
 	}
-	expect(t).toBeLessThanOrEqual(ref.limit * (1 + 1e-12));
+	expect(t).toBeLessThanOrEqual(ref.limit * (1 + slack));
 	expect(t).toBeGreaterThanOrEqual(ref.limit * (1 - rel));
 	const hi = num(r.numbers.thresholdFailAbove);
-	expect(hi).toBeGreaterThanOrEqual(ref.limit * (1 - 1e-12));
+	expect(hi).toBeGreaterThanOrEqual(ref.limit * (1 - slack));
 	expect(hi).toBeLessThanOrEqual(ref.limit * (1 + rel));
 	if (Number.isFinite(ref.w)) expect(Math.abs(r.criticalFrequency! / ref.w - 1)).toBeLessThan(1e-6);
 }
@@ -126,9 +139,10 @@ describe('same answers through every input form', () => {
 					const B2 = mm(T, ss.B);
 					const C2 = mm(ss.C, Ti);
 					const m2: Model = { kind: 'ss', A: A2, B: B2, C: C2, D: ss.D };
-					// The transform is done in doubles, so G moves by rounding only (about 1e-15 relative).
+					// The transform is done in doubles, so G moves by rounding only (about 1e-15 relative in the
+					// entries, up to about 1e-12 in the limit for lightly damped modes): 1e-9 of slack.
 					for (const m of [ss, m2]) {
-						expectLimit(runCheck(m, { type: 'max-sector', lower: 0 }), ref, 1e-7);
+						expectLimit(runCheck(m, { type: 'max-sector', lower: 0 }), ref, 1e-7, 1e-9);
 						expect(runCheck(m, { type: 'circle', sector: [0, ref.limit * 0.9] }).verdict).toBe('pass');
 						expect(runCheck(m, { type: 'circle', sector: [0, ref.limit * 1.1] }).verdict).toBe('fail');
 					}
