@@ -1,6 +1,8 @@
 // Specification templates: common ways of stating what "stable enough" means for a loop with a
 // nonlinear element, turned into the engine's check. Pure (browser and server).
-// Sources: DOMAIN.md sections 5 and 9 (common practice; the MIL-F-9490D tiers are from memory there).
+// Sources: classical gain/phase margins are common practice (6 dB, 45 degrees); the gain-margin tiers
+// follow MIL-F-9490D (from memory, not re-read); sectors from the circle criterion, Khalil, Nonlinear
+// Systems, 3rd ed., section 7.1.
 
 export type SpecCheck =
 	| { type: 'circle'; sector: [number, number] }
@@ -37,7 +39,7 @@ export function sectorOfDb(db: number, digits = 3): [number, number] {
 
 /**
  * Phase margin (degrees) guaranteed by the sector [1/k, k]: the disk with diameter [-k, -1/k] meets the
- * unit circle where cos φ = (1 + 1) / (k + 1/k) (DOMAIN.md section 9, from the law of cosines on the disk).
+ * unit circle where cos φ = (1 + 1) / (k + 1/k) (the law of cosines on the disk).
  */
 export function phaseMarginOfSector(k: number): number {
 	return (Math.acos(2 / (k + 1 / k)) * 180) / Math.PI;

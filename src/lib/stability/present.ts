@@ -1,4 +1,4 @@
-// Curves for plots. Plots illustrate; the algebra in checks/ decides (DOMAIN.md section 3).
+// Curves for plots. Plots illustrate; the algebra in checks/ decides (Sturm / root-isolation decisions, never a grid).
 // Frequencies are chosen adaptively: a log-spaced base grid spanning the pole and zero magnitudes, dense
 // clusters around every lightly damped pole and zero (spacing proportional to the damping, since a mode
 // s = -sigma + j wd has a resonance band of half-width about sigma around wd), points around the critical

@@ -4,8 +4,9 @@ import { db } from '../db';
 import { enqueueAll } from './queue';
 import { engineVersionSeen, lockEngineVersions, recordEngineVersion } from './repo';
 
-// A verdict is stale once the engine version changes (DOMAIN.md section 6). At start-up the worker
-// records the engine version it runs; a version not seen before queues a run for every requirement.
+// A verdict is stale once the engine version changes: the tool version behind a verdict is one of its
+// inputs (the tool environment a DO-178C configuration index records). At start-up the worker records
+// the engine version it runs; a version not seen before queues a run for every requirement.
 
 export async function queueForEngineVersion(
 	version = ENGINE_VERSION

@@ -11,7 +11,7 @@ import type { MeasuredPoint } from './frequency-response';
 // 1. a SAMPLED sector check: does each measured point stay out of (or inside) the forbidden region of
 //    the circle criterion? A finite sample can miss a narrow excursion between two frequencies and says
 //    nothing about the encirclement / Hurwitz conditions, so this is never a proved verdict
-//    (DOMAIN.md section 3);
+//    (a sampled check, never a proof);
 // 2. model-versus-test agreement at the measured frequencies, against a tolerance on the requirement.
 
 export const DEFAULT_TOLERANCE = { relativeError: 0.1, phaseDeg: 5 } as const;
