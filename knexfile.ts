@@ -1,8 +1,10 @@
 import type { Knex } from 'knex';
+import { useLocalEnv } from './scripts/lib/local-env';
 
-// Reads only the environment: scripts/start.sh and scripts/test.sh set DATABASE_URL for their own cluster.
-const connection = process.env.DATABASE_URL;
-if (!connection) throw new Error('DATABASE_URL is not set (scripts/start.sh and scripts/test.sh set it)');
+// scripts/start.sh and scripts/test.sh set DATABASE_URL for their own cluster; `npm run migrate` in a
+// second terminal beside npm start finds npm start's cluster through the shared helper.
+useLocalEnv();
+const connection = process.env.DATABASE_URL!;
 
 const config: Knex.Config = {
 	client: 'pg',

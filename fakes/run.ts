@@ -4,7 +4,10 @@
 //   FAKE_SMTP_PORT  default 2525
 //   FAKE_S3_PORT    default 4569
 //   S3_BUCKET       bucket created at start (default loopwarden-evidence)
+//   FAKE_OIDC_PORT  default 4599: the identity-provider stand-in; it accepts the app's redirect URI
+//                   ORIGIN/auth/callback/oidc (ORIGIN default http://127.0.0.1:4173)
 import { join, resolve } from 'node:path';
+import { startOidcFake } from './oidc';
 import { startS3Fake } from './s3';
 import { startSmtpFake } from './smtp';
 
@@ -12,7 +15,9 @@ const dir = resolve(process.env.FAKE_DIR ?? '.data/fakes');
 const smtpPort = Number(process.env.FAKE_SMTP_PORT ?? 2525);
 const s3Port = Number(process.env.FAKE_S3_PORT ?? 4569);
 const bucket = process.env.S3_BUCKET ?? 'loopwarden-evidence';
-const only = (process.env.FAKES ?? 'smtp,s3').split(',');
+const oidcPort = Number(process.env.FAKE_OIDC_PORT ?? 4599);
+const appOrigin = process.env.ORIGIN ?? 'http://127.0.0.1:4173';
+const only = (process.env.FAKES ?? 'smtp,s3,oidc').split(',');
 
 const stops: (() => Promise<void>)[] = [];
 if (only.includes('smtp')) {
@@ -24,6 +29,14 @@ if (only.includes('s3')) {
 	const s3 = await startS3Fake({ port: s3Port, dir: join(dir, 's3'), buckets: [bucket] });
 	stops.push(() => s3.close());
 	console.log(`[fakes] object-storage stand-in on http://127.0.0.1:${s3Port} (bucket ${bucket})`);
+}
+if (only.includes('oidc')) {
+	const oidc = await startOidcFake({
+		port: oidcPort,
+		redirectUris: [`${appOrigin}/auth/callback/oidc`, `${appOrigin}/signin/sign/callback`]
+	});
+	stops.push(() => new Promise((r) => oidc.close(() => r())));
+	console.log(`[fakes] identity-provider stand-in on http://127.0.0.1:${oidcPort}`);
 }
 console.log('[fakes] ready');
 

@@ -6,6 +6,10 @@
 // bound is null / "Infinity" / "inf", and every message names its place ("checks[1].sector[1]: ...").
 import { readFileSync } from 'node:fs';
 import { ENGINE_VERSION, ModelInputError, analyzeCase } from '../src/lib/stability/index';
+import { useLocalEnv } from './lib/local-env';
+
+// The engine alone: no database (the shared helper only fills in npm start's defaults).
+useLocalEnv('none');
 
 function fail(message: string, code: number): never {
 	process.stderr.write(message.endsWith('\n') ? message : message + '\n');

@@ -53,7 +53,8 @@ start_fakes() {
 	kill_pidfile "$pidfile"
 	# From a subshell: stopping it later prints no job-control notice.
 	(setsid node_modules/.bin/tsx fakes/run.ts >"$log" 2>&1 & echo $! >"$pidfile")
-	for _ in $(seq 1 100); do
+	# Up to 30 s: with the identity provider's packages a start takes 4-6 s on a loaded machine.
+	for _ in $(seq 1 300); do
 		grep -q '\[fakes\] ready' "$log" 2>/dev/null && return 0
 		kill -0 "$(cat "$pidfile")" 2>/dev/null || break
 		sleep 0.1
@@ -61,4 +62,14 @@ start_fakes() {
 	cat "$log" >&2
 	say "the local stand-ins did not start"
 	return 1
+}
+
+# load_local_env: npm start's defaults from scripts/local.env (the file the commands beside it read
+# through scripts/lib/local-env.ts); a variable already set wins.
+load_local_env() {
+	local k v
+	while IFS='=' read -r k v; do
+		case "$k" in '' | \#*) continue ;; esac
+		[ -n "${!k+x}" ] || export "$k=$v"
+	done <"$ROOT/scripts/local.env"
 }

@@ -4,6 +4,10 @@
 //   LOAD_BASE_URL (http://127.0.0.1:4173)  LOAD_SECONDS (30)  LOAD_CONNECTIONS (50)  LOAD_WARMUP_SECONDS (5)
 //   LOAD_EMAIL / LOAD_PASSWORD (the demo certifier)  LOAD_PROJECT (VX7)
 import { runLoad } from './lib/load';
+import { useLocalEnv } from './lib/local-env';
+
+// Against the running app over HTTP: no database of its own.
+useLocalEnv('none');
 
 const r = await runLoad({
 	baseUrl: process.env.LOAD_BASE_URL ?? 'http://127.0.0.1:4173',

@@ -2,6 +2,9 @@
 import { closeDb, db } from '../src/lib/server/db';
 import { seedDemoEvidence } from '../src/lib/server/demo/evidence';
 import { seedDemo } from '../src/lib/server/demo/seed';
+import { useLocalEnv } from './lib/local-env';
+
+useLocalEnv();
 
 const seeded = await seedDemo(db());
 console.log(seeded ? '[seed] demo scenario VX7 seeded' : '[seed] database not empty: demo seed skipped');

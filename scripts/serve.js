@@ -5,6 +5,7 @@
 // A worker that dies while serving is replaced; one that cannot start (the port is taken, the build is
 // broken) stops the whole server with exit code 1 instead of being restarted in a loop.
 import cluster from 'node:cluster';
+import { writeFileSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
 import { resolve } from 'node:path';
 import { pathToFileURL } from 'node:url';
@@ -14,6 +15,15 @@ const requested = Number(process.env.WEB_CONCURRENCY);
 const count = Number.isInteger(requested) && requested > 0 ? requested : Math.min(availableParallelism(), 4);
 
 if (count === 1 || !cluster.isPrimary) {
+	if (!cluster.isPrimary) {
+		// Each worker would print adapter-node's "Listening on ..." line, one by one, in between
+		// whatever else the terminal shows; the primary prints it once for all of them (below).
+		const log = console.log;
+		console.log = (...args) => {
+			if (typeof args[0] === 'string' && args[0].startsWith('Listening on ')) return;
+			log(...args);
+		};
+	}
 	await import(pathToFileURL(resolve(dir, 'index.js')).href);
 } else {
 	let stopping = false;
@@ -31,7 +41,16 @@ if (count === 1 || !cluster.isPrimary) {
 		setTimeout(() => process.exit(exitCode), 15_000).unref();
 	};
 
-	cluster.on('listening', (worker) => listening.add(worker.id));
+	let announced = false;
+	cluster.on('listening', (worker, address) => {
+		listening.add(worker.id);
+		if (announced || listening.size < count) return;
+		announced = true;
+		const host = address.address ?? '0.0.0.0';
+		console.log(`Listening on http://${host}:${address.port} (${count} processes)`);
+		// npm start prints its banner after this line (SERVE_READY_FILE), so the two never interleave.
+		if (process.env.SERVE_READY_FILE) writeFileSync(process.env.SERVE_READY_FILE, `${address.port}\n`);
+	});
 	cluster.on('exit', (worker, code, signal) => {
 		const served = listening.delete(worker.id);
 		if (stopping) {

@@ -27,6 +27,26 @@ if [ ! -x /usr/bin/chromium ]; then
 	fi
 fi
 
+# Debian's poppler-utils (pdftotext, pdftoppm) and unzip for the data package tests (tests/integration/packages).
+if ! command -v pdftotext >/dev/null || ! command -v pdftoppm >/dev/null || ! command -v unzip >/dev/null; then
+	if [ "$(id -u)" = 0 ]; then
+		say "installing Debian's poppler-utils and unzip for the data package tests"
+		DEBIAN_FRONTEND=noninteractive apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq poppler-utils unzip >/dev/null
+	else
+		say "poppler-utils or unzip is missing and this is not root: install Debian's packages (the data package tests fail without them)"
+	fi
+fi
+
+# xmllint (Debian's libxml2-utils) validates ReqIF exports against the vendored schema (tests/reqif).
+if ! command -v xmllint >/dev/null 2>&1; then
+	if [ "$(id -u)" = 0 ]; then
+		say "installing Debian's libxml2-utils (xmllint) for the ReqIF schema checks"
+		DEBIAN_FRONTEND=noninteractive apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq libxml2-utils >/dev/null
+	else
+		say "xmllint is missing and this is not root: install Debian's libxml2-utils (the ReqIF tests fail without it)"
+	fi
+fi
+
 # Debian's Python libraries for the exact reference run (tests/reference): sympy, mpmath, scipy, and gmpy2,
 # which sympy uses for faster big-number arithmetic (same answers). Debian's /usr/bin/python3, never pip.
 if ! /usr/bin/python3 -c 'import sympy, mpmath, scipy, gmpy2' 2>/dev/null; then
@@ -45,10 +65,16 @@ export ORIGIN="http://127.0.0.1:$PORT" LW_BASE_URL="http://127.0.0.1:$PORT"
 export FAKE_DIR="$TEST_DATA/fakes" FAKE_SMTP_PORT=$((2526 + SLOT * 10)) FAKE_S3_PORT=$((4570 + SLOT * 10))
 export S3_BUCKET=loopwarden-test S3_ENDPOINT="http://127.0.0.1:$FAKE_S3_PORT" S3_ACCESS_KEY_ID=S3RVER S3_SECRET_ACCESS_KEY=S3RVER
 export SMTP_URL="smtp://127.0.0.1:$FAKE_SMTP_PORT" MAIL_FAKE_DIR="$FAKE_DIR/mail"
+# Single sign-on through the identity-provider stand-in (fakes/oidc.ts), as npm start configures it.
+export FAKE_OIDC_PORT=$((4601 + SLOT * 10))
+export OIDC_ISSUER="http://127.0.0.1:$FAKE_OIDC_PORT" OIDC_CLIENT_ID=loopwarden OIDC_CLIENT_SECRET=loopwarden-demo-client-secret
+export OIDC_NAME="Demo identity provider"
 # Evidence uploads are streamed and limited by the app (EVIDENCE_MAX_BYTES), not by the adapter's 512 KiB
 # default. Tests run with a 12 MiB limit so the over-size case stays quick; the 200 MiB default is checked
 # by tests/unit/evidence/config.test.ts and exercised by npm run bench.
 export BODY_SIZE_LIMIT=Infinity EVIDENCE_MAX_BYTES=12582912
+# Requirement imports are held in memory; 4 MiB in tests keeps the over-size case quick (default 64 MiB).
+export IMPORT_MAX_BYTES=4194304
 export AUTH_SECRET="test-secret-$(head -c 16 /dev/urandom | base64 | tr -dc A-Za-z0-9)" AUTH_TRUST_HOST=true
 export DEMO_MODE=true
 # Loose limits in tests that are not about them; the rate-limit test sets its own addresses.
@@ -56,6 +82,8 @@ export SIGNIN_MAX_FAILURES=5
 # tests/factories createRun inserts runs without a queue job (a worker never takes them), and the suite runs
 # longer than the health check's 5 minutes: the stalled-queue threshold is an hour here.
 export LW_QUEUE_STALE_SECONDS=3600
+# Workers beat every second here, so the watched-worker test sees a killed one die within seconds.
+export LW_WORKER_HEARTBEAT_SECONDS=1
 export BUILD_DIR="$TEST_DATA/build"
 export LW_TEST_DATA="$TEST_DATA"
 

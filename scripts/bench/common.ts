@@ -3,10 +3,10 @@
 // a process's resident memory.
 import { execFileSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
-import { fileURLToPath } from 'node:url';
 import knexFactory from 'knex';
+import { ROOT, useLocalEnv } from '../lib/local-env';
 
-export const ROOT = fileURLToPath(new URL('../..', import.meta.url));
+export { ROOT };
 
 export interface BenchResult {
 	name: string;
@@ -17,9 +17,8 @@ export interface BenchResult {
 }
 
 function clusterUrl(): string {
-	if (process.env.DATABASE_URL) return process.env.DATABASE_URL;
-	execFileSync('bash', ['scripts/db.sh', 'start'], { cwd: ROOT, stdio: 'ignore' });
-	return execFileSync('bash', ['scripts/db.sh', 'url'], { cwd: ROOT, encoding: 'utf8' }).trim();
+	useLocalEnv('start');
+	return process.env.DATABASE_URL!;
 }
 
 /** A new, migrated database named `name`; drop() removes it (connections or not). */

@@ -71,7 +71,14 @@ export async function reverifySection(): Promise<BenchResult> {
 			if (Number(seen?.c) > 0) break;
 			await new Promise((r) => setTimeout(r, 100));
 		}
-		await new Promise((r) => setTimeout(r, 1500));
+		// The first worker queues a run per requirement for the engine version it records: let those
+		// finish, so the clock measures the publish's runs alone.
+		for (let t = 0; t < 1200; t++) {
+			const open = await k('analysis_runs').whereIn('status', ['queued', 'running']).count('* as c').first();
+			if (t > 10 && Number(open?.c) === 0) break;
+			await new Promise((r) => setTimeout(r, 100));
+		}
+		await new Promise((r) => setTimeout(r, 500));
 
 		const t0 = performance.now();
 		const pub = await publishVersion(actor, Number(p.id), Number(m.id), {
@@ -94,7 +101,7 @@ export async function reverifySection(): Promise<BenchResult> {
 			.where({ model_version_id: pub.version.id })
 			.select(
 				k.raw(
-					`count(*)::int as runs, count(*) filter (where status = 'done')::int as done, avg(duration_ms)::float as avg_ms, max(attempts)::int as max_attempts`
+					`count(*)::int as runs, count(*) filter (where status = 'done')::int as done, avg(duration_ms)::float as avg_ms, sum(duration_ms)::float as sum_ms, max(attempts)::int as max_attempts`
 				)
 			)
 			.first();
@@ -103,9 +110,13 @@ export async function reverifySection(): Promise<BenchResult> {
 		return {
 			name: `re-verify ${n} requirements after one publish (${workers} worker processes)`,
 			figure: `${(total / 1000).toFixed(2)} s`,
-			target: '<= 10 s',
-			ok: total <= 10_000 && stats.done === n,
+			target: '<= 3 s',
+			ok: total <= 3_000 && stats.done === n && stats.max_attempts === 1,
 			details: {
+				// The engine's share: engine time per worker over the wall time (1 = the workers did
+				// nothing but run the engine; the rest is queue, claim, store and notices).
+				engineSeconds: Number((stats.sum_ms / 1000).toFixed(2)),
+				engineShareOfWall: Number((stats.sum_ms / workers / total).toFixed(2)),
 				queuedRuns: pub.queued,
 				publishTransactionMs: Math.round(tQueued),
 				finishedRuns: stats.runs,

@@ -1,7 +1,7 @@
 // Bench section: one 200 MB evidence upload through the built app, streamed from this process over HTTP,
 // into a private object-storage stand-in. Reports the throughput and the peak growth of the app's
 // resident memory (VmRSS from /proc/<pid>/status, sampled every 20 ms) over its level just before the
-// upload; the target is at most 64 MB of growth. Uses a scratch database in the cluster of DATABASE_URL
+// upload; the target is at most 32 MB of growth. Uses a scratch database in the cluster of DATABASE_URL
 // (npm start's cluster when unset) and drops it afterwards.
 //   tsx scripts/bench/upload.ts              (or as a section of npm run bench)
 //   BENCH_UPLOAD_MB=200
@@ -196,8 +196,8 @@ export async function uploadSection(): Promise<BenchResult> {
 		return {
 			name: `upload of ${megabytes} MB evidence`,
 			figure: `${mbps.toFixed(1)} MB/s, server memory growth ${(growth / 1024 / 1024).toFixed(1)} MiB`,
-			target: 'memory growth <= 64 MB, SHA-256 as sent',
-			ok: growth <= 64 * 1000 * 1000 && hashOk,
+			target: 'memory growth <= 32 MB, SHA-256 as sent',
+			ok: growth <= 32 * 1000 * 1000 && hashOk,
 			details: {
 				bytes: size,
 				seconds: Number((r.ms / 1000).toFixed(2)),

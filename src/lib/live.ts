@@ -135,3 +135,47 @@ export function pokeProject(key: string): void {
 	w.changedAt = Date.now();
 	void poll(w);
 }
+
+/**
+ * Run `load` when the project's stamp is first read and whenever it moves: one load at a time (a
+ * move during a load runs one more afterwards) and at most every `minMs`. Returns the function that
+ * stops.
+ */
+export function reloadOnChange(key: string, load: () => Promise<void>, minMs: number): () => void {
+	let timer: ReturnType<typeof setTimeout> | undefined;
+	let running = false;
+	let again = false;
+	let lastAt = 0;
+	let stopped = false;
+	const run = async () => {
+		clearTimeout(timer);
+		running = true;
+		lastAt = Date.now();
+		try {
+			await load();
+		} finally {
+			running = false;
+			if (again && !stopped) {
+				again = false;
+				request();
+			}
+		}
+	};
+	const request = () => {
+		if (stopped) return;
+		if (running) {
+			again = true;
+			return;
+		}
+		clearTimeout(timer);
+		const wait = lastAt + minMs - Date.now();
+		if (wait > 0) timer = setTimeout(request, wait);
+		else void run();
+	};
+	const unwatch = watchProject(key, request);
+	return () => {
+		stopped = true;
+		clearTimeout(timer);
+		unwatch();
+	};
+}

@@ -1,7 +1,6 @@
-import type { Browser, Page } from 'playwright-core';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { Page } from 'playwright-core';
+import { describe, expect, it } from 'vitest';
 import {
-	closeTestDb,
 	createEvidence,
 	createModel,
 	createModelVersion,
@@ -12,7 +11,7 @@ import {
 	lagModel
 } from '../factories';
 import { ENGINE_VERSION } from '../../src/lib/stability/index';
-import { launchBrowser, signInPage as signIn } from '../helpers/browser';
+import { signInPage as signIn, useBrowser } from '../helpers/browser';
 import { env } from '../helpers/env';
 import { signedIn } from '../helpers/http';
 import { CUBE, pauseHarnessWorker, points, resumeHarnessWorker } from '../integration/models/helpers';
@@ -25,15 +24,7 @@ import { CUBE, pauseHarnessWorker, points, resumeHarnessWorker } from '../integr
 // G(s) = 1/(s+1)^3: the circle criterion with k1 = 0 proves k2 < 4 (tests/integration/models/helpers.ts,
 // Khalil, Nonlinear Systems, 3rd ed., Theorem 7.1), so sector [0, 3] is verified and [0, 5] is failing.
 
-let browser: Browser;
-beforeAll(async () => {
-	browser = await launchBrowser();
-});
-afterAll(async () => {
-	resumeHarnessWorker();
-	await browser?.close();
-	await closeTestDb();
-});
+const browser = useBrowser({ after: resumeHarnessWorker });
 
 /** Marks the document; a reload or a full navigation would lose the mark. */
 const mark = (page: Page) => page.evaluate(() => ((window as unknown as { lwMark: number }).lwMark = 1));
@@ -49,7 +40,7 @@ describe('open pages follow a saved specification without a reload', () => {
 			ownerId: team.users.engineer.id,
 			title: 'Live pitch loop stability'
 		});
-		const ctx = await browser.newContext();
+		const ctx = await browser().newContext();
 		const reqPage = await ctx.newPage();
 		try {
 			await signIn(reqPage, team.users.engineer.email, team.users.engineer.password);
@@ -156,7 +147,7 @@ describe('open pages follow a model publish and an evidence review without a rel
 		await createRun(req.id, { engineVersion: ENGINE_VERSION, verdict: 'pass' });
 		const evidence = await createEvidence(team.project.id, [req.id], { title: 'Roll rig sweep' });
 
-		const ctx = await browser.newContext();
+		const ctx = await browser().newContext();
 		const reqPage = await ctx.newPage();
 		try {
 			await signIn(reqPage, team.users.viewer.email, team.users.viewer.password);
@@ -204,6 +195,7 @@ describe('open pages follow a model publish and an evidence review without a rel
 			expect(await review()).toBe('pending');
 			const certifier = await signedIn(team.users.certifier.email, team.users.certifier.password);
 			const res = await certifier.json(`/api/v1/evidence/${evidence.id}/review`, 'POST', {
+				password: team.users.certifier.password,
 				decision: 'accepted',
 				comment: 'Matches the rig log.',
 				revision: 1

@@ -1,8 +1,7 @@
-import type { Browser, Page } from 'playwright-core';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { Page } from 'playwright-core';
+import { describe, expect, it } from 'vitest';
 import { ENGINE_VERSION } from '../../src/lib/stability/index';
 import {
-	closeTestDb,
 	createModel,
 	createModelVersion,
 	createRequirement,
@@ -11,22 +10,14 @@ import {
 	createTeam,
 	lagModel
 } from '../factories';
-import { launchBrowser, signInPage as signIn } from '../helpers/browser';
+import { signInPage as signIn, useBrowser } from '../helpers/browser';
 import { env } from '../helpers/env';
 import { CUBE, pauseHarnessWorker, resumeHarnessWorker } from '../integration/models/helpers';
 
 // An analyst publishes a version through the form, watching the in-browser preview; the requirement page
 // then shows the re-run pending, and the verdict once the worker has run it.
 
-let browser: Browser;
-beforeAll(async () => {
-	browser = await launchBrowser();
-});
-afterAll(async () => {
-	resumeHarnessWorker();
-	await browser?.close();
-	await closeTestDb();
-});
+const browser = useBrowser({ after: resumeHarnessWorker });
 
 /** The analysis state the requirement page shows (the live panel if the page has it, else the badge). */
 async function shownState(page: Page): Promise<string | null> {
@@ -52,11 +43,11 @@ describe('publishing a model version in the browser', () => {
 		await createSpec(req.id, { modelId: model.id, check: { type: 'circle', sector: [0, 5] } });
 		await createRun(req.id, { engineVersion: ENGINE_VERSION, verdict: 'pass' });
 
-		const ctx = await browser.newContext();
+		const ctx = await browser().newContext();
 		const page = await ctx.newPage();
 		try {
 			await signIn(page, team.users.analyst.email, team.users.analyst.password);
-			await page.goto(`${env.baseUrl}/p/${team.project.key}/models/${model.id}/publish`);
+			await page.goto(`${env.baseUrl}/p/${team.project.key}/models/${model.id}/publish?entry=json`);
 			await page.fill('#note', 'Two more lags from the actuator rig');
 			await page.fill('#operatingPoints', JSON.stringify([{ label: 'nominal', model: CUBE }], null, 2));
 			// The preview is computed in the browser: three poles at -1, and the requirement's forbidden region.
@@ -106,11 +97,11 @@ describe('publishing a model version in the browser', () => {
 			ownerId: team.users.analyst.id,
 			name: 'e2e no-script loop'
 		});
-		const ctx = await browser.newContext({ javaScriptEnabled: false });
+		const ctx = await browser().newContext({ javaScriptEnabled: false });
 		const page = await ctx.newPage();
 		try {
 			await signIn(page, team.users.analyst.email, team.users.analyst.password);
-			await page.goto(`${env.baseUrl}/p/${team.project.key}/models/${model.id}/publish`);
+			await page.goto(`${env.baseUrl}/p/${team.project.key}/models/${model.id}/publish?entry=json`);
 			await page.fill(
 				'#operatingPoints',
 				'[{"label": "nominal", "model": {"kind": "tf", "num": [1], "den": [0, 1]}}]'

@@ -1,9 +1,7 @@
 import ExcelJS from 'exceljs';
-import type { Browser } from 'playwright-core';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { ENGINE_VERSION } from '../../src/lib/stability/index';
 import {
-	closeTestDb,
 	createEvidence,
 	createModel,
 	createModelVersion,
@@ -14,21 +12,14 @@ import {
 	lagModel,
 	linkRequirements
 } from '../factories';
-import { launchBrowser } from '../helpers/browser';
+import { useBrowser } from '../helpers/browser';
 import { env } from '../helpers/env';
 import { signedIn } from '../helpers/http';
 
 // A certifier filters the trace matrix, exports the spreadsheet (the download is opened with exceljs),
 // freezes a baseline, and compares it with the current state after an analyst publishes a model version.
 
-let browser: Browser;
-beforeAll(async () => {
-	browser = await launchBrowser();
-});
-afterAll(async () => {
-	await browser?.close();
-	await closeTestDb();
-});
+const browser = useBrowser();
 
 describe('trace matrix, export and baseline in the browser', () => {
 	it('filters, exports, freezes and compares', async () => {
@@ -66,7 +57,7 @@ describe('trace matrix, export and baseline in the browser', () => {
 			methods: ['inspection']
 		});
 
-		const ctx = await browser.newContext({ acceptDownloads: true });
+		const ctx = await browser().newContext({ acceptDownloads: true });
 		const page = await ctx.newPage();
 		await page.goto(`${env.baseUrl}/signin?redirectTo=${encodeURIComponent(`/p/${team.project.key}/trace`)}`);
 		await page.fill('#email', team.users.certifier.email);
@@ -110,7 +101,9 @@ describe('trace matrix, export and baseline in the browser', () => {
 		// Freeze.
 		await page.goto(`${env.baseUrl}/p/${team.project.key}/baselines`);
 		await page.fill('#label', 'Submission issue 1');
-		await page.click('button:has-text("Freeze baseline")');
+		// The freeze is the baseline's signed release: the password is re-entered.
+		await page.fill('#release-password', team.users.certifier.password);
+		await page.click('button:has-text("Freeze and sign the release")');
 		await page.waitForURL(/\/baselines\/\d+$/);
 		const hash = (await page.textContent('[data-testid=manifest-hash]'))!.trim();
 		expect(hash).toMatch(/^[0-9a-f]{64}$/);

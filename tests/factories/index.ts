@@ -268,6 +268,10 @@ export async function createRun(
 		result?: Record<string, unknown> | null;
 		worstPoint?: string | null;
 		finishedAt?: Date;
+		/** Plot curves as the worker stores them (analyses/compute.ts computeRun). */
+		curves?: unknown;
+		/** The output hash the worker would record (default: a stand-in over the inputs). */
+		outputHash?: string;
 	}
 ) {
 	const db = testDb();
@@ -297,7 +301,8 @@ export async function createRun(
 			verdict: finished && status === 'done' ? (o.verdict ?? 'pass') : null,
 			result: result ? JSON.stringify(result) : null,
 			worst_point: o.worstPoint ?? (finished ? 'nominal' : null),
-			output_hash: finished ? sha(JSON.stringify([requirementId, r.mv_id, result])) : null,
+			output_hash: finished ? (o.outputHash ?? sha(JSON.stringify([requirementId, r.mv_id, result]))) : null,
+			curves: o.curves === undefined ? null : JSON.stringify(o.curves),
 			error: status === 'error' ? 'engine failed' : null,
 			trigger: 'requirement-revision',
 			started_at: finished ? (o.finishedAt ?? new Date()) : null,
@@ -403,4 +408,65 @@ export async function createBaseline(projectId: number, label = 'Route table bas
 		})
 		.returning('id');
 	return { id: Number(b.id) };
+}
+
+/**
+ * A data package record, queued and never built (no queue job): for the route table and the package
+ * API's state without waiting for a worker.
+ */
+export async function createPackageRecord(projectId: number, baselineId: number | null) {
+	const [p] = await testDb()('data_packages')
+		.insert({ project_id: projectId, baseline_id: baselineId, requested_by_label: 'factory' })
+		.returning('*');
+	return { ...p, id: Number(p.id) };
+}
+
+/**
+ * A run of the requirement's current inputs with the engine's own answer: computeRun on the model
+ * version's content, as the worker computes it (verdict, result, curves, output hash), inserted
+ * without a queue job.
+ */
+export async function createComputedRun(
+	requirementId: number,
+	check: Record<string, unknown>,
+	content: unknown,
+	requiredMargin: number | null = null
+) {
+	const { computeRun } = await import('../../src/lib/server/analyses/compute');
+	const { ENGINE_VERSION } = await import('../../src/lib/stability/index');
+	const out = computeRun({ check, requiredMargin, operatingPoints: null, content: content as never });
+	return createRun(requirementId, {
+		engineVersion: ENGINE_VERSION,
+		verdict: out.verdict,
+		result: out.result,
+		worstPoint: out.worstPoint,
+		curves: out.curves,
+		outputHash: out.outputHash
+	});
+}
+
+/** An import that was read but carries a problem (a missing title), so confirming it is refused. */
+export async function createImportRecord(projectId: number): Promise<number> {
+	const preview = {
+		format: 'csv',
+		fileName: 'route-table.csv',
+		counts: { new: 0, changed: 0, unchanged: 0, problems: 1 },
+		problems: [{ row: 2, column: 'A (Title)', message: 'Title is missing.' }],
+		items: [],
+		offer: { kind: 'sheet', sheets: ['CSV'], sheet: 'CSV', headers: ['Title'] }
+	};
+	const [row] = await testDb()('imports')
+		.insert({
+			project_id: projectId,
+			format: 'csv',
+			file_name: 'route-table.csv',
+			file_sha256: '0'.repeat(64),
+			size_bytes: 6,
+			content: Buffer.from('Title\n'),
+			mapping: JSON.stringify({ sheet: 'CSV', headerRow: 1, columns: { title: 'Title' }, defaults: {} }),
+			preview: JSON.stringify(preview),
+			project_state: 'route-table'
+		})
+		.returning('id');
+	return Number(row.id);
 }

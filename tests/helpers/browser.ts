@@ -1,4 +1,6 @@
 import { chromium, type Browser, type Page } from 'playwright-core';
+import { afterAll, beforeAll } from 'vitest';
+import { closeTestDb } from '../factories';
 import { env } from './env';
 
 // Debian's chromium, headless, with the network-quiet flags this machine needs.
@@ -27,4 +29,25 @@ export async function signInPage(page: Page, email: string, password: string): P
 	await page.fill('#password', password);
 	await page.click('button:has-text("Sign in")');
 	await page.waitForURL((u) => !u.pathname.startsWith('/signin'));
+}
+
+/**
+ * The start-up every browser test file shares: one Chromium for the file, closed after its tests with
+ * the test database connection (`after` runs first, e.g. to release a held harness worker).
+ * Returns a getter: the browser exists once beforeAll has run.
+ */
+export function useBrowser(o: { after?: () => void | Promise<void> } = {}): () => Browser {
+	let browser: Browser | undefined;
+	beforeAll(async () => {
+		browser = await launchBrowser();
+	});
+	afterAll(async () => {
+		await o.after?.();
+		await browser?.close();
+		await closeTestDb();
+	});
+	return () => {
+		if (!browser) throw new Error('the browser is started in beforeAll');
+		return browser;
+	};
 }

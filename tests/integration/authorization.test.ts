@@ -154,19 +154,39 @@ describe('role-by-route outcomes', () => {
 	// here as the product's rules (the same as the route table above says per action), not read from
 	// the role table under test; the site administrators get everything, also as a viewer member.
 	const ALL = [
+		'decideFindings',
 		'freezeBaselines',
+		'generatePackages',
 		'read',
 		'reviewEvidence',
+		'reviewRequirements',
 		'setTolerance',
 		'uploadEvidence',
+		'workFindings',
 		'writeModels',
 		'writeRequirements'
 	];
 	const GRANTED: Partial<Record<Caller, string[]>> = {
 		viewer: ['read'],
-		engineer: ['read', 'setTolerance', 'uploadEvidence', 'writeRequirements'],
-		analyst: ['read', 'setTolerance', 'uploadEvidence', 'writeModels'],
-		certifier: ['freezeBaselines', 'read', 'reviewEvidence', 'uploadEvidence'],
+		engineer: [
+			'read',
+			'reviewRequirements',
+			'setTolerance',
+			'uploadEvidence',
+			'workFindings',
+			'writeRequirements'
+		],
+		analyst: ['read', 'reviewRequirements', 'setTolerance', 'uploadEvidence', 'workFindings', 'writeModels'],
+		certifier: [
+			'decideFindings',
+			'freezeBaselines',
+			'generatePackages',
+			'read',
+			'reviewEvidence',
+			'reviewRequirements',
+			'uploadEvidence',
+			'workFindings'
+		],
 		admin: ALL,
 		adminViewer: ALL
 	};
@@ -177,7 +197,9 @@ describe('role-by-route outcomes', () => {
 		'/p/{key}/models/{modelId}',
 		'/p/{key}/evidence',
 		'/p/{key}/evidence/{evidenceId}',
-		'/p/{key}/baselines'
+		'/p/{key}/baselines',
+		'/p/{key}/findings',
+		'/p/{key}/findings/{findingId}'
 	];
 
 	it('every page offers exactly what the role table allows the caller', async () => {

@@ -6,9 +6,12 @@ import { addMember, closeTestDb, createProject, createUser, testDb } from '../fa
 import { env } from '../helpers/env';
 import { Client, signedIn } from '../helpers/http';
 import { expectMailTo } from '../helpers/mail';
+import { followThroughProvider, signInThroughProvider } from '../helpers/oidc';
+import { FAKE_OIDC_PASSWORD, FAKE_OIDC_USERS } from '../../fakes/oidc-users';
 
-// Faults while the app serves: the database restarted, the mail relay down. Each dependency comes
-// back without restarting the app, and nothing is lost.
+// Faults while the app serves: the database restarted, the mail relay down, the identity provider
+// restarted with a new signing key. Each dependency comes back without restarting the app, and
+// nothing is lost.
 
 afterAll(closeTestDb);
 
@@ -194,4 +197,60 @@ describe('mail relay down', () => {
 			}
 		}
 	}, 90_000);
+});
+
+describe('identity provider restarted with a new signing key', () => {
+	// The stand-in makes a new RSA key at each start, as a provider rotating its keys would; the app
+	// has the old key set cached. A signature confirmed at the provider after the restart must still
+	// verify (the app fetches the key set again), not be refused as an unverifiable answer.
+	it('records a signature confirmed at the restarted provider', async () => {
+		const pavel = FAKE_OIDC_USERS.find((u) => u.email.startsWith('pavel.ruud'))!;
+		const p = await createProject({ name: 'Provider restarted' });
+		const author = await createUser();
+		await addMember(author.id, p.id, 'engineer');
+		const eng = await signedIn(author.email, author.password);
+		const { app, idp } = await signInThroughProvider(pavel.email, FAKE_OIDC_PASSWORD);
+		const user = await testDb()('users').where({ email: pavel.email }).first();
+		await addMember(Number(user.id), p.id, 'certifier');
+
+		const signOnce = async (title: string) => {
+			const res = await eng.json(`/api/v1/projects/${p.key}/requirements`, 'POST', {
+				title,
+				statement: 'The yaw damper gain schedule shall be inspected against the sector [0, 3].',
+				level: 'loop',
+				assuranceLevel: 'C',
+				methods: ['inspection']
+			});
+			expect(res.status, await res.clone().text()).toBe(201);
+			const id = (await res.json()).requirement.id as number;
+			const page = `/p/${p.key}/requirements/${id}`;
+			const named = await eng.action(`${page}?/requestReview`, { revision: '1', reviewers: String(user.id) });
+			expect(named.type, JSON.stringify(named)).toBe('success');
+			const r = await app.action(`${page}?/decide`, { revision: '1', decision: 'approve', comment: '' });
+			expect(r.type, JSON.stringify(r)).toBe('success');
+			const url = new URL(r.data!.next as string);
+			const first = await idp.get(url.pathname + url.search, { accept: 'text/html' });
+			const run = await followThroughProvider(app, idp, first, pavel.email, FAKE_OIDC_PASSWORD);
+			const back = await app.get(run.landed, { accept: 'text/html' });
+			expect(back.status, (await back.clone().text()).slice(0, 2000)).toBe(303);
+			const sigs = await testDb()('signatures').where({ target_type: 'requirement', target_id: id });
+			expect(sigs).toHaveLength(1);
+			expect(sigs[0].confirmed_by).toBe('identity provider re-authentication');
+		};
+
+		// The app caches the provider's keys on this first signature.
+		await signOnce('Before the restart');
+		await stopStandIns();
+		await startStandIns();
+		const iss = process.env.OIDC_ISSUER!;
+		for (let i = 0; i < 100; i++) {
+			const ok = await fetch(`${iss}/.well-known/openid-configuration`).then(
+				(r) => r.ok,
+				() => false
+			);
+			if (ok) break;
+			await sleep(100);
+		}
+		await signOnce('After the restart');
+	}, 120_000);
 });

@@ -107,11 +107,12 @@ describe('identifiers', () => {
 
 	it('a refused creation takes no number', async () => {
 		const before = await counts();
+		// Approval is a signed act of the review workflow, never a field written with a revision.
 		const r = await create({
 			statement: 'The loop shall remain stable for gains up to TBD.',
 			status: 'approved'
 		});
-		expect(r.status).toBe(422);
+		expect(r.status).toBe(400);
 		const ok = await create();
 		expect(ok.json.requirement.identifier).toBe(
 			`${team.project.key}-${String(before.counter).padStart(3, '0')}`
@@ -163,7 +164,7 @@ describe('revisions', () => {
 		const first = await eng.json(api(`/requirements/${id}`), 'PATCH', {
 			revision: 1,
 			title: 'Theirs',
-			status: 'in-review'
+			status: 'retired'
 		});
 		expect(first.status).toBe(200);
 		const before = await counts();
@@ -172,7 +173,7 @@ describe('revisions', () => {
 		const err = (await stale.json()).error;
 		expect(err.currentRevision).toBe(2);
 		expect(err.changed.title).toEqual({ yours: 'Mine', theirs: 'Theirs' });
-		expect(err.changed.status).toEqual({ yours: 'draft', theirs: 'in-review' });
+		expect(err.changed.status).toEqual({ yours: 'draft', theirs: 'retired' });
 		expect(err.changed.statement).toBeUndefined();
 		expect(await counts()).toEqual(before);
 		// Without a revision there is no update at all.
@@ -221,7 +222,7 @@ describe('revisions', () => {
 		expect((await testDb()('requirements').where({ id }).first()).current_revision).toBe(3);
 	});
 
-	it('approval is blocked while the statement holds TBD / TBR / TBS', async () => {
+	it('the status field no longer approves: approval goes through the signed review workflow', async () => {
 		const { json } = await create({
 			statement: 'The loop shall remain absolutely stable for every gain in [0.5, TBD].'
 		});
@@ -230,26 +231,17 @@ describe('revisions', () => {
 		expect(json.requirement.quality).toContainEqual(
 			expect.objectContaining({ rule: 'placeholder', severity: 'blocker' })
 		);
-		const res = await eng.json(api(`/requirements/${id}`), 'PATCH', { revision: 1, status: 'approved' });
-		expect(res.status).toBe(422);
-		const err = (await res.json()).error;
-		expect(err.message).toMatch(/TBD/);
-		expect(err.fields.status).toMatch(/TBD/);
-		expect((await testDb()('requirements').where({ id }).first()).current_revision).toBe(1);
-		// In review is fine; approval once the placeholder is replaced.
-		const review = await eng.json(api(`/requirements/${id}`), 'PATCH', { revision: 1, status: 'in-review' });
-		expect(review.status).toBe(200);
-		const fixed = await eng.json(api(`/requirements/${id}`), 'PATCH', {
-			revision: 2,
-			status: 'approved',
-			statement: 'The loop shall remain absolutely stable for every gain in [0.5, 1.8].'
+		for (const status of ['approved', 'in-review']) {
+			const res = await eng.json(api(`/requirements/${id}`), 'PATCH', { revision: 1, status });
+			expect(res.status).toBe(400);
+			const err = (await res.json()).error;
+			expect(err.fields.status).toMatch(/review workflow/);
+		}
+		expect(await testDb()('requirements').where({ id }).first()).toMatchObject({
+			current_revision: 1,
+			review_state: 'draft'
 		});
-		expect(fixed.status).toBe(200);
-		expect((await fixed.json()).requirement.status).toBe('approved');
-		const actions = (
-			await testDb()('audit_events').where({ subject_type: 'requirement', subject_id: String(id) })
-		).map((e) => e.action);
-		expect(actions).toContain('requirement.status.approved');
+		// (Approval refused while the placeholder is there: tests/integration/signoff.test.ts.)
 	});
 });
 

@@ -9,4 +9,6 @@ export interface Column<T> {
 	align?: 'left' | 'right';
 	sortable?: boolean;
 	mono?: boolean;
+	/** The value is an ISO instant: drawn in the one date-time format (src/lib/datetime.ts). */
+	time?: 'datetime' | 'date' | 'seconds';
 }

@@ -16,6 +16,7 @@ const KEYS: Record<string, string> = {
 	B: 'matrix B',
 	C: 'matrix C',
 	D: 'matrix D',
+	expression: 'transfer function',
 	note: 'note',
 	format: 'format',
 	operatingPoints: 'operating points'

@@ -79,6 +79,8 @@ export function checkConsistency(
 	const check = spec.check as SpecCheck;
 	if (check.type === 'circle' || check.type === 'popov') {
 		const [k1, k2] = check.sector.map((v) => (v === null ? Infinity : Number(v))) as [number, number];
+		// A sector still being typed (a bound empty or not a number) has nothing to compare yet.
+		if (Number.isNaN(k1) || Number.isNaN(k2)) return { status: 'no-spec', findings: [], matched: [] };
 		const sectorText = `[${fmt(k1)}, ${fmt(k2)}]`;
 		for (const i of intervals) {
 			const [a, b] = i.bounds.map(parseBound);

@@ -89,12 +89,39 @@ export async function lockChain(trx: Db): Promise<void> {
 
 /** Append one event in the caller's transaction. */
 export async function recordEvent(trx: Db, actor: Actor, event: AuditEvent): Promise<void> {
+	await recordEvents(trx, actor, [event]);
+}
+
+/**
+ * Append several events in the caller's transaction, chained in the order given: one read of the
+ * chain's end and one insert however many there are (the worker stores a batch of runs this way).
+ */
+export async function recordEvents(trx: Db, actor: Actor, events: AuditEvent[]): Promise<void> {
+	if (events.length === 0) return;
 	await lockChain(trx);
 	const last = await trx('audit_events').orderBy('seq', 'desc').first('hash');
-	const prev = last?.hash ?? GENESIS;
+	let prev: string = last?.hash ?? GENESIS;
 	// Millisecond precision, so the stored value and the hashed value agree exactly.
 	const at = new Date(Math.floor(Date.now()));
-	const row = {
+	const rows = events.map((event) => {
+		const row = eventRow(at, actor, event);
+		const hash = eventHash(prev, row);
+		const stored = {
+			...row,
+			before: row.before === null ? null : JSON.stringify(row.before),
+			after: row.after === null ? null : JSON.stringify(row.after),
+			prev_hash: prev,
+			hash
+		};
+		prev = hash;
+		return stored;
+	});
+	// Inserted in array order, so seq follows the chain.
+	for (let i = 0; i < rows.length; i += 500) await trx('audit_events').insert(rows.slice(i, i + 500));
+}
+
+function eventRow(at: Date, actor: Actor, event: AuditEvent) {
+	return {
 		at,
 		project_id: event.projectId ?? null,
 		actor_user_id: actor.userId ?? null,
@@ -108,14 +135,6 @@ export async function recordEvent(trx: Db, actor: Actor, event: AuditEvent): Pro
 		after: event.after === undefined ? null : JSON.parse(canonical(event.after)),
 		request_id: actor.requestId ?? null
 	};
-	const hash = eventHash(prev, row);
-	await trx('audit_events').insert({
-		...row,
-		before: row.before === null ? null : JSON.stringify(row.before),
-		after: row.after === null ? null : JSON.stringify(row.after),
-		prev_hash: prev,
-		hash
-	});
 }
 
 /** Walk the chain; name the first event whose link or content does not match. */
@@ -140,6 +159,16 @@ export async function verifyChain(
 	}
 	return { ok: true, count };
 }
+
+/** An event as a page's history shows it. */
+export const eventView = (e: StoredEvent) => ({
+	seq: Number(e.seq),
+	at: new Date(e.at).toISOString(),
+	actor: e.actor_label,
+	action: e.action,
+	before: e.before,
+	after: e.after
+});
 
 /** The history of one item, newest first. */
 export function historyOf(db: Db, subjectType: string, subjectId: string | number, limit = 200) {

@@ -3,6 +3,8 @@ import Credentials from '@auth/sveltekit/providers/credentials';
 import { decode } from '@auth/core/jwt';
 import { error, redirect, type RequestEvent } from '@sveltejs/kit';
 import { env } from '$env/dynamic/private';
+import type { OIDCConfig } from '@auth/core/providers';
+import { config } from './config';
 import type { OwnedKind, ProjectRow, UserRow } from './identity/repo';
 import {
 	allows,
@@ -23,6 +25,8 @@ import {
 	roleIn,
 	type MemberOf
 } from './identity/service';
+import { profileFromClaims, ssoSignIn } from './identity/sso';
+import type { SsoRefusal } from './identity/sso-rules';
 
 export const PRECHECK_HEADER = 'x-loopwarden-precheck';
 const SESSION_MAX_AGE = 12 * 60 * 60;
@@ -41,8 +45,10 @@ export const {
 	trustHost: env.AUTH_TRUST_HOST === 'true',
 	secret: env.AUTH_SECRET,
 	session: { strategy: 'jwt', maxAge: SESSION_MAX_AGE },
-	pages: { signIn: '/signin' },
+	// Errors of a provider sign-in (provider unreachable, refused) come back to the sign-in page.
+	pages: { signIn: '/signin', error: '/signin' },
 	providers: [
+		...oidcProviders(),
 		Credentials({
 			credentials: { email: {}, password: {} },
 			async authorize(raw, request) {
@@ -66,8 +72,20 @@ export const {
 		})
 	],
 	callbacks: {
-		jwt({ token, user }) {
-			if (user?.id) token.sub = user.id;
+		signIn({ user, account }) {
+			// A refusal of ssoSignIn (disabled account, unverified address ...) is shown by its code.
+			const refused = account?.provider === 'oidc' ? (user as SsoUser).refused : undefined;
+			return refused ? `/signin?sso=${refused}` : true;
+		},
+		jwt({ token, user, account }) {
+			if (account?.provider === 'oidc') {
+				// Auth.js gives the user a random id; ours is the account ssoSignIn found or created. The
+				// provider's auth_time is kept in the session: signing asks how recent that login is.
+				const u = user as SsoUser;
+				token.sub = String(u.loopwardenUserId);
+				token.idp = 'oidc';
+				token.authTime = u.authTime ?? null;
+			} else if (user?.id) token.sub = user.id;
 			return token;
 		},
 		session({ session, token }) {
@@ -77,16 +95,77 @@ export const {
 	}
 });
 
+/** What the OIDC provider's profile() hands to the callbacks besides Auth.js's own fields. */
+interface SsoUser {
+	loopwardenUserId?: number;
+	authTime?: number | null;
+	refused?: SsoRefusal;
+}
+
+/** auth_time from the ID token (already validated by Auth.js), also when the claims came from userinfo. */
+function authTimeOf(claims: Record<string, unknown>, idToken: unknown): number | null {
+	if (typeof claims.auth_time === 'number') return claims.auth_time;
+	if (typeof idToken !== 'string') return null;
+	try {
+		const payload = JSON.parse(Buffer.from(idToken.split('.')[1] ?? '', 'base64url').toString('utf8'));
+		return typeof payload.auth_time === 'number' ? payload.auth_time : null;
+	} catch {
+		return null;
+	}
+}
+
+/**
+ * The identity provider, when OIDC_ISSUER, OIDC_CLIENT_ID and OIDC_CLIENT_SECRET are set (config.oidc).
+ * Auth.js runs the authorization-code flow with PKCE, state and nonce and validates the ID token;
+ * profile() then signs the person in on our side (identity/sso.ts: account, roles from groups, audit).
+ */
+function oidcProviders(): OIDCConfig<Record<string, unknown>>[] {
+	const c = config.oidc;
+	if (!c) return [];
+	return [
+		{
+			id: 'oidc',
+			name: c.name,
+			type: 'oidc',
+			issuer: c.issuer,
+			clientId: c.clientId,
+			clientSecret: c.clientSecret,
+			checks: ['pkce', 'state', 'nonce'],
+			authorization: { params: { scope: c.scope } },
+			idToken: !c.useUserinfo,
+			async profile(claims, tokens) {
+				const authTime = authTimeOf(claims, tokens.id_token);
+				const outcome = await ssoSignIn(profileFromClaims(c.issuer, claims, c.groupsClaim, authTime));
+				const base = { id: String(claims.sub ?? ''), email: String(claims.email ?? '') };
+				const extra: SsoUser =
+					'refused' in outcome
+						? { refused: outcome.refused }
+						: { loopwardenUserId: outcome.userId, authTime };
+				return { ...base, ...extra };
+			}
+		}
+	];
+}
+
 // Decrypting the session JWT (HKDF key derivation, then AES-CBC and HMAC) costs more than the rest of
 // a small request. The cookie is immutable once issued, so its verified claims are kept here by the
 // exact cookie value; the expiry is checked on every use and the user is still read from the database.
-const verified = new Map<string, { sub: number; iat: number; exp: number }>();
+interface SessionClaims {
+	sub: number;
+	iat: number;
+	exp: number;
+	/** 'oidc' when the session began with a sign-in at the identity provider. */
+	idp: string | null;
+	/** That sign-in's auth_time (seconds since 1970), as the provider stated it. */
+	authTime: number | null;
+}
+const verified = new Map<string, SessionClaims>();
 const VERIFIED_MAX = 5_000;
 
 async function sessionClaims(token: string, cookieName: string) {
 	const hit = verified.get(token);
 	if (hit) return hit;
-	let payload: { sub?: unknown; iat?: unknown; exp?: unknown } | null;
+	let payload: { sub?: unknown; iat?: unknown; exp?: unknown; idp?: unknown; authTime?: unknown } | null;
 	try {
 		payload = await decode({ token, secret: env.AUTH_SECRET ?? '', salt: cookieName });
 	} catch {
@@ -97,7 +176,13 @@ async function sessionClaims(token: string, cookieName: string) {
 	const exp = Number(payload?.exp);
 	if (!Number.isInteger(sub) || sub <= 0 || !Number.isFinite(exp) || !Number.isFinite(iat)) return null;
 	if (verified.size >= VERIFIED_MAX) verified.delete(verified.keys().next().value!);
-	const claims = { sub, iat, exp };
+	const claims: SessionClaims = {
+		sub,
+		iat,
+		exp,
+		idp: typeof payload?.idp === 'string' ? payload.idp : null,
+		authTime: typeof payload?.authTime === 'number' ? payload.authTime : null
+	};
 	verified.set(token, claims);
 	return claims;
 }
@@ -116,6 +201,22 @@ async function sessionUserId(event: RequestEvent): Promise<number | null> {
 	// Rolling expiry: through Auth.js, which re-encrypts and sets the cookie with a fresh lifetime.
 	if (now - claims.iat > SESSION_REFRESH_AFTER) return idOf(await event.locals.auth());
 	return claims.sub;
+}
+
+/**
+ * The sign-in at the identity provider that the request's session began with: its auth_time, for
+ * fresh-login checks (identity/fresh-login.ts). Null for a password session, an API token, no session.
+ */
+export async function sessionProviderLogin(
+	event: RequestEvent
+): Promise<{ userId: number; authTime: number | null } | null> {
+	if (event.locals.apiToken) return null;
+	const name = SESSION_COOKIES.find((n) => event.cookies.get(n));
+	// A cookie split into chunks is never one of ours in practice (the token is small): not fresh.
+	if (!name) return null;
+	const claims = await sessionClaims(event.cookies.get(name)!, name);
+	if (!claims || claims.exp <= Date.now() / 1000 || claims.idp !== 'oidc') return null;
+	return { userId: claims.sub, authTime: claims.authTime };
 }
 
 function idOf(session: { user?: { id?: string } } | null): number | null {
@@ -150,6 +251,8 @@ export interface ProjectTarget {
 	evidence?: number;
 	run?: number;
 	baseline?: number;
+	import?: number;
+	finding?: number;
 }
 
 /** The kind of resource a target names by id (never when it names only the project). */
@@ -181,7 +284,9 @@ const KIND_WORDS: Record<OwnedKind, string> = {
 	model: 'model',
 	evidence: 'evidence',
 	run: 'analysis run',
-	baseline: 'baseline'
+	baseline: 'baseline',
+	finding: 'finding',
+	import: 'import'
 };
 
 function ownedOf(target: ProjectTarget): { kind: OwnedKind; id: number } | null {

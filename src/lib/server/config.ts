@@ -14,8 +14,22 @@ function int(name: string, fallback: number): number {
 export const config = {
 	get databaseUrl(): string {
 		const url = process.env.DATABASE_URL;
-		if (!url) throw new Error('DATABASE_URL is not set');
+		if (!url)
+			throw new Error(
+				'DATABASE_URL is not set (npm start and npm test set it; the npm commands beside npm start find its cluster)'
+			);
 		return url;
+	},
+	/**
+	 * A read replica for the trace-matrix and export reads (DATABASE_READ_URL); unset, they read the
+	 * primary (DATABASE_URL). Those reads may then lag the primary by the replica's delay.
+	 */
+	get databaseReadUrl(): string {
+		return process.env.DATABASE_READ_URL || this.databaseUrl;
+	},
+	/** Connections per process in the Knex pool (DB_POOL_MAX; each app process and worker has its own). */
+	get dbPoolMax(): number {
+		return Math.max(1, int('DB_POOL_MAX', 10));
 	},
 	get smtpUrl(): string | undefined {
 		return process.env.SMTP_URL || undefined;
@@ -66,14 +80,67 @@ export const config = {
 			expireSeconds: Math.max(1, int('LW_RUN_EXPIRE_SECONDS', 20)),
 			holdMs: Math.max(0, int('LW_WORKER_HOLD_MS', 0)),
 			queueMaintenanceSeconds: Math.max(1, int('LW_QUEUE_MAINTENANCE_SECONDS', 2)),
-			// A run still queued after this long makes the health check say the queue is stalled.
+			// A run still queued after this long makes the health check say the queue is stalled (503 naming
+			// the analysis workers when no worker is alive, the queue when one is).
 			queueStaleSeconds: Math.max(1, int('LW_QUEUE_STALE_SECONDS', 300)),
+			// A worker writes a heartbeat this often; silent for three intervals, it is not alive.
+			workerHeartbeatSeconds: Math.max(1, int('LW_WORKER_HEARTBEAT_SECONDS', 10)),
 			// Time budget of each engine check in a run (circle, Popov, largest sector), in seconds.
 			engineBudgetSeconds: Math.min(600, Math.max(1, int('LW_ENGINE_BUDGET_SECONDS', 5)))
 		};
 	},
+	/**
+	 * Which queues a worker process takes jobs from: LW_WORKER_QUEUES, a comma list of "runs" and
+	 * "packages" (default both). A deployment can give package builds their own worker (they take
+	 * minutes and up to 320 MB) and keep the analysis workers free for re-verification.
+	 */
+	get workerQueues(): { runs: boolean; packages: boolean } {
+		const v = (process.env.LW_WORKER_QUEUES ?? '').trim();
+		if (v === '') return { runs: true, packages: true };
+		const names = v.split(',').map((n) => n.trim());
+		const unknown = names.filter((n) => n !== 'runs' && n !== 'packages');
+		if (unknown.length || names.length === 0)
+			throw new Error(`LW_WORKER_QUEUES must list "runs" and/or "packages" separated by commas, got "${v}"`);
+		return { runs: names.includes('runs'), packages: names.includes('packages') };
+	},
 	/** Largest evidence file accepted, in bytes (default 200 MiB). */
 	get evidenceMaxBytes(): number {
 		return int('EVIDENCE_MAX_BYTES', 200 * 1024 * 1024);
+	},
+	/**
+	 * Single sign-on through an OpenID Connect identity provider; null (off) unless OIDC_ISSUER,
+	 * OIDC_CLIENT_ID and OIDC_CLIENT_SECRET are all set. The app's redirect URI at the provider is
+	 * ORIGIN/auth/callback/oidc. `groupsClaim` names the claim holding the person's groups (an array
+	 * of strings, or one string); `useUserinfo` reads the claims from the userinfo endpoint instead
+	 * of the ID token; `freshLoginSeconds` is how recent a provider login must be for a signature.
+	 */
+	get oidc(): {
+		issuer: string;
+		clientId: string;
+		clientSecret: string;
+		name: string;
+		groupsClaim: string;
+		scope: string;
+		useUserinfo: boolean;
+		freshLoginSeconds: number;
+	} | null {
+		const issuer = process.env.OIDC_ISSUER?.trim();
+		const clientId = process.env.OIDC_CLIENT_ID?.trim();
+		const clientSecret = process.env.OIDC_CLIENT_SECRET;
+		if (!issuer || !clientId || !clientSecret) return null;
+		return {
+			issuer: issuer.replace(/\/+$/, ''),
+			clientId,
+			clientSecret,
+			name: process.env.OIDC_NAME?.trim() || 'your organisation',
+			groupsClaim: process.env.OIDC_GROUPS_CLAIM?.trim() || 'groups',
+			scope: process.env.OIDC_SCOPE?.trim() || 'openid email profile groups',
+			useUserinfo: process.env.OIDC_USE_USERINFO === 'true',
+			freshLoginSeconds: Math.max(10, int('OIDC_FRESH_LOGIN_SECONDS', 300))
+		};
+	},
+	/** Largest requirements file an import reads (ReqIF, XLSX, CSV); it is held in memory. */
+	get importMaxBytes(): number {
+		return int('IMPORT_MAX_BYTES', 128 * 1024 * 1024);
 	}
 };

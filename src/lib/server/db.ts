@@ -50,17 +50,33 @@ function autoPrepare(conn: pg.Client): void {
 }
 
 let instance: Knex | undefined;
+let readInstance: Knex | undefined;
 
 /** The one Knex instance of the process. */
 export function db(): Knex {
-	instance ??= knexFactory({
+	instance ??= connect(config.databaseUrl);
+	return instance;
+}
+
+/**
+ * The connection for the trace-matrix and export reads: a read replica when DATABASE_READ_URL is set,
+ * else the same instance as db(). Only reads go here; anything that writes uses db().
+ */
+export function readDb(): Knex {
+	if (config.databaseReadUrl === config.databaseUrl) return db();
+	readInstance ??= connect(config.databaseReadUrl);
+	return readInstance;
+}
+
+function connect(connectionString: string): Knex {
+	return knexFactory({
 		client: 'pg',
 		// JIT compilation is for long analytical queries; ours are short, and the planner's row
 		// estimates for the grouped trace-matrix sub-queries would switch it on for nothing.
-		connection: { connectionString: config.databaseUrl, options: '-c jit=off' },
+		connection: { connectionString, options: '-c jit=off' },
 		pool: {
 			min: 0,
-			max: Number(process.env.DB_POOL_MAX ?? 10),
+			max: config.dbPoolMax,
 			afterCreate: (conn: pg.Client, done: (err: Error | null, conn: pg.Client) => void) => {
 				autoPrepare(conn);
 				done(null, conn);
@@ -68,7 +84,6 @@ export function db(): Knex {
 		},
 		acquireConnectionTimeout: 5_000
 	});
-	return instance;
 }
 
 export type Db = Knex | Knex.Transaction;
@@ -113,6 +128,10 @@ function compare(a: unknown, b: unknown): number {
 }
 
 export async function closeDb(): Promise<void> {
+	if (readInstance) {
+		await readInstance.destroy();
+		readInstance = undefined;
+	}
 	if (instance) {
 		await instance.destroy();
 		instance = undefined;

@@ -30,6 +30,19 @@ export async function enqueueMail(trx: Db, mail: Mail): Promise<void> {
 	await outbox.insert(trx, mail);
 }
 
+/** Queue one mail to each of some users (the active ones), greeting each by name. */
+export async function mailUsers(trx: Db, userIds: (number | null)[], subject: string, text: string) {
+	for (const id of new Set(userIds.filter((x): x is number => x != null).map(Number))) {
+		const u = await trx('users').where({ id }).first('email', 'display_name', 'disabled');
+		if (u && !u.disabled)
+			await enqueueMail(trx, {
+				to: u.email,
+				subject,
+				text: `Hello ${u.display_name},\n\n${text}\n\n-- Loopwarden\n`
+			});
+	}
+}
+
 let running: Promise<number> | undefined;
 
 /** Try to deliver every due message once. Returns how many were delivered. */

@@ -1,12 +1,16 @@
 import {
+	AbortMultipartUploadCommand,
+	CompleteMultipartUploadCommand,
+	CreateMultipartUploadCommand,
 	DeleteObjectCommand,
 	GetObjectCommand,
 	HeadBucketCommand,
 	HeadObjectCommand,
+	PutObjectCommand,
 	S3Client,
+	UploadPartCommand,
 	type S3ClientConfig
 } from '@aws-sdk/client-s3';
-import { Upload } from '@aws-sdk/lib-storage';
 import type { Readable } from 'node:stream';
 import { config } from './config';
 import { registerHealthCheck } from './health';
@@ -14,6 +18,9 @@ import { registerHealthCheck } from './health';
 // The object store for evidence files: any S3-compatible service, configured by the environment
 // (S3_ENDPOINT, S3_REGION, S3_BUCKET, S3_ACCESS_KEY_ID, S3_SECRET_ACCESS_KEY, S3_FORCE_PATH_STYLE).
 // Without an endpoint the SDK's own resolution (AWS) and credential chain apply.
+
+/** Multipart part size: 5 MiB, the smallest part S3 accepts (all but the last). */
+const PART_SIZE = 5 * 1024 * 1024;
 
 export interface StorageSettings {
 	endpoint?: string;
@@ -85,27 +92,98 @@ export class ObjectStore {
 	}
 
 	/**
-	 * Store a stream under `key`. Large bodies go up as a multipart upload of 5 MiB parts (the smallest S3
-	 * allows), one in flight while the next is gathered, so about 10 MiB of the file is in memory at a time;
-	 * an error aborts the multipart upload.
+	 * Store a stream under `key`. A body up to one part goes up as one PutObject; a larger one as a
+	 * multipart upload of 5 MiB parts (the smallest S3 allows) gathered into two buffers allocated once:
+	 * one part is sent while the next is gathered, so memory holds two parts (10 MiB) whatever the file's
+	 * size, with nothing left for the garbage collector to catch up with. An error or an abort aborts the
+	 * multipart upload.
 	 */
 	async put(key: string, body: Readable, contentType: string, signal?: AbortSignal): Promise<void> {
-		const upload = new Upload({
-			client: this.client,
-			params: { Bucket: this.bucket, Key: key, Body: body, ContentType: contentType },
-			partSize: 5 * 1024 * 1024,
-			queueSize: 1,
-			leavePartsOnError: false
-		});
-		const onAbort = () => void upload.abort().catch(() => {});
-		signal?.addEventListener('abort', onAbort, { once: true });
 		try {
-			await upload.done();
+			await this.putParts(key, body, contentType, signal);
 		} catch (e) {
 			if (isStorageUnavailable(e)) throw new StorageUnavailableError(e);
 			throw e;
-		} finally {
-			signal?.removeEventListener('abort', onAbort);
+		}
+	}
+
+	private async putParts(key: string, body: Readable, contentType: string, signal?: AbortSignal) {
+		const base = { Bucket: this.bucket, Key: key };
+		const buffers = [Buffer.allocUnsafe(PART_SIZE), Buffer.allocUnsafe(PART_SIZE)];
+		let fill = 0;
+		let used = 0;
+		let uploadId: string | undefined;
+		const parts: { ETag?: string; PartNumber: number }[] = [];
+		let inFlight: Promise<void> | null = null;
+		const sendPart = async (buf: Buffer, length: number) => {
+			if (!uploadId) {
+				const r = await this.client.send(
+					new CreateMultipartUploadCommand({ ...base, ContentType: contentType }),
+					{ abortSignal: signal }
+				);
+				uploadId = r.UploadId!;
+			}
+			const PartNumber = parts.length + 1;
+			parts.push({ PartNumber });
+			const r = await this.client.send(
+				new UploadPartCommand({
+					...base,
+					UploadId: uploadId,
+					PartNumber,
+					Body: buf.subarray(0, length),
+					ContentLength: length
+				}),
+				{ abortSignal: signal }
+			);
+			parts[PartNumber - 1].ETag = r.ETag;
+		};
+		try {
+			for await (const chunk of body as AsyncIterable<Buffer>) {
+				let at = 0;
+				while (at < chunk.length) {
+					const n = Math.min(PART_SIZE - used, chunk.length - at);
+					chunk.copy(buffers[fill], used, at, at + n);
+					used += n;
+					at += n;
+					if (used === PART_SIZE) {
+						// The other buffer is free once its part has been sent.
+						await inFlight;
+						inFlight = sendPart(buffers[fill], used);
+						inFlight.catch(() => {});
+						fill = 1 - fill;
+						used = 0;
+					}
+				}
+			}
+			await inFlight;
+			if (!uploadId) {
+				await this.client.send(
+					new PutObjectCommand({
+						...base,
+						ContentType: contentType,
+						Body: buffers[fill].subarray(0, used),
+						ContentLength: used
+					}),
+					{ abortSignal: signal }
+				);
+				return;
+			}
+			if (used > 0) await sendPart(buffers[fill], used);
+			await this.client.send(
+				new CompleteMultipartUploadCommand({
+					...base,
+					UploadId: uploadId,
+					MultipartUpload: { Parts: parts }
+				}),
+				{ abortSignal: signal }
+			);
+		} catch (e) {
+			await inFlight?.catch(() => {});
+			if (uploadId)
+				await this.client
+					.send(new AbortMultipartUploadCommand({ ...base, UploadId: uploadId }))
+					.catch(() => {});
+			throw e;
 		}
 	}
 

@@ -256,7 +256,7 @@ function evenOdd(p: DPoly): { e: bigint[]; o: bigint[] } {
 	return { e, o };
 }
 
-function evalAt(c: bigint[], x: Dyadic): { m: bigint; e: number } {
+export function evalAt(c: readonly bigint[], x: Dyadic): { m: bigint; e: number } {
 	// exact value of the integer polynomial at a dyadic point, as m * 2^e
 	const n = c.length - 1;
 	if (n < 0) return { m: 0n, e: 0 };
@@ -339,4 +339,17 @@ export function certifiedPositiveEven(
 	// Second stage: the exact E, rounded once (tight bounds), through the same filter; then Sturm.
 	const E = evenRealPart(P, Q);
 	return { ...certifiedPositiveOnHalfLine(E, hints, forceExact), E, nearAxis };
+}
+
+/**
+ * The first of a few values just below an estimated limit, from + (estimate - from)(1 - f) for
+ * f = 1e-9, 1e-7, ..., 0.5, that `passes` proves exactly; null when none does. The estimate is numerical;
+ * only what `passes` decides is reported as proved.
+ */
+export function provedBelow(estimate: number, passes: (k: number) => boolean, from = 0): number | null {
+	for (const f of [1e-9, 1e-7, 1e-5, 1e-3, 1e-2, 0.1, 0.5]) {
+		const k = from + (estimate - from) * (1 - f);
+		if (k > from && passes(k)) return k;
+	}
+	return null;
 }

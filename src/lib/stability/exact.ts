@@ -479,3 +479,33 @@ export function countPositiveWithZero(p: readonly bigint[]): number {
 	if (q.length <= 1) return 0;
 	return sturmPositiveRootCount(q);
 }
+
+/** a - b for dyadics, exactly. */
+export function subDyadic(a: Dyadic, b: Dyadic): Dyadic {
+	if (b.m === 0n) return a;
+	if (a.m === 0n) return { m: -b.m, e: b.e };
+	const e = Math.min(a.e, b.e);
+	return { m: (a.m << BigInt(a.e - e)) - (b.m << BigInt(b.e - e)), e };
+}
+
+/**
+ * The first leading principal minor (1-based order) of a square dyadic matrix that is not positive, or 0
+ * when all are positive, i.e. when a symmetric matrix is positive definite (Sylvester's criterion).
+ * Fraction-free Gaussian elimination without pivoting (E. H. Bareiss, Math. Comp. 22 (1968) 565-578): its
+ * k-th pivot is the k-th leading principal minor, and every division is exact.
+ */
+export function firstNonPositiveMinor(M: readonly Dyadic[][]): number {
+	const n = M.length;
+	let e = Infinity;
+	for (const r of M) for (const v of r) if (v.m !== 0n) e = Math.min(e, v.e);
+	if (e === Infinity) return n > 0 ? 1 : 0;
+	const a = M.map((r) => r.map((v) => (v.m === 0n ? 0n : v.m << BigInt(v.e - e))));
+	let prev = 1n;
+	for (let k = 0; k < n; k++) {
+		if (a[k][k] <= 0n) return k + 1;
+		for (let i = k + 1; i < n; i++)
+			for (let j = k + 1; j < n; j++) a[i][j] = (a[k][k] * a[i][j] - a[i][k] * a[k][j]) / prev;
+		prev = a[k][k];
+	}
+	return 0;
+}

@@ -7,12 +7,18 @@ export {
 	parseModel,
 	parseCheck,
 	parseCase,
+	parseEngineCheck,
+	engineCheckSchema,
+	matrixCircleCheckSchema,
+	isDiscrete,
 	ModelInputError,
 	INFINITE_BOUND_SPELLINGS,
 	strictIn,
 	type Model,
 	type Check,
 	type Case,
+	type EngineCheck,
+	type MatrixCircleCheck,
 	type InputIssue
 } from './schema';
 export type { CheckResult, Verdict, PositiveRealClass, NumberOrInf } from './types';

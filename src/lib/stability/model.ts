@@ -180,6 +180,11 @@ function ssToExact(A: number[][], B: number[][], Cm: number[][], Dm: number[][])
 	return { N: trim(num), D: trim(den) };
 }
 
+/** det(sI - M) of a dyadic matrix, exactly (Berkowitz), as an ascending DPoly. */
+export function charPolyOf(M: Dyadic[][]): DPoly {
+	return charPolyDyadic(toIntMatrix(M));
+}
+
 const tfCache = new WeakMap<object, ExactTF>();
 
 export function exactTransferFunction(modelIn: Model): ExactTF {

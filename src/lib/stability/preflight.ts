@@ -281,8 +281,9 @@ function refuse(
 				explanation: `Not proved for the sector ${sectorText(check.sector[0], check.sector[1])}: ${lower}`
 			};
 		case 'popov':
+		case 'tsypkin':
 			return {
-				type: 'popov',
+				type: check.type,
 				...common,
 				q: null,
 				threshold: null,
@@ -334,6 +335,7 @@ function sectorOf(check: Check): [number, number] | null {
 		case 'circle':
 			return check.sector;
 		case 'popov':
+		case 'tsypkin':
 			return [0, check.sector[1]];
 		case 'max-sector':
 			return [check.lower, check.lower];

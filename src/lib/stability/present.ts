@@ -9,7 +9,9 @@ import { popovCore } from './checks/popov';
 import { divC, evalJw, toFloatCommon } from './fpoly';
 import { type Plant, preparePlant } from './model';
 import { polyRoots } from './roots';
-import { type Model, parseModel } from './schema';
+import { type Model, isDiscrete, parseModel } from './schema';
+import { discreteModel } from './discrete-model';
+import { exactTransferFunction } from './model';
 
 export interface CurvePoint {
 	w: number;
@@ -91,8 +93,60 @@ function gEvaluator(plant: Plant): (w: number) => { re: number; im: number } {
 	return (w) => (isZero(plant.Ns) ? { re: 0, im: 0 } : divC(evalJw(Nf, w), evalJw(Df, w)));
 }
 
-/** Nyquist curve G(jw) for w > 0, adaptively sampled. w in rad/s. */
+/**
+ * A discrete model's G(e^(j w T)) as a function of w in rad/s (0 < w <= pi / T): Horner in complex
+ * arithmetic on the exact polynomials rounded once. For plots only.
+ */
+function discreteEvaluator(model: Model): {
+	g: (w: number) => { re: number; im: number };
+	T: number;
+	angles: number[];
+} {
+	const dm = discreteModel(model).model;
+	const tf = exactTransferFunction(dm);
+	const [Nf, Df] = toFloatCommon([tf.N, tf.D]);
+	const T = dm.sampleTime!;
+	const at = (p: number[], th: number) => {
+		let re = 0;
+		let im = 0;
+		const c = Math.cos(th);
+		const sn = Math.sin(th);
+		for (let i = p.length - 1; i >= 0; i--) [re, im] = [re * c - im * sn + p[i], re * sn + im * c];
+		return { re, im };
+	};
+	// Pole angles: lightly damped poles near the unit circle give narrow peaks there.
+	const angles = polyRoots(Df)
+		.filter((r) => r.im >= 0)
+		.map((r) => Math.atan2(r.im, r.re));
+	return { g: (w) => divC(at(Nf, w * T), at(Df, w * T)), T, angles };
+}
+
+function discreteCurve(
+	model: Model,
+	opts: CurveOptions,
+	f: (g: { re: number; im: number }) => { re: number; im: number }
+): CurvePoint[] {
+	const { g, T, angles } = discreteEvaluator(model);
+	const ws: number[] = [];
+	for (let i = 1; i <= 400; i++) ws.push((Math.PI * i) / 400 / T);
+	for (const a of angles)
+		for (const t of [-1e-2, -3e-3, -1e-3, -3e-4, -1e-4, 0, 1e-4, 3e-4, 1e-3, 3e-3, 1e-2]) {
+			const th = a + t;
+			if (th > 0 && th <= Math.PI) ws.push(th / T);
+		}
+	for (const w of opts.focus ?? []) if (w > 0 && w * T <= Math.PI) ws.push(w);
+	const sorted = ws.sort((a, b) => a - b).filter((w, i, a) => i === 0 || w > a[i - 1]);
+	return refine(sorted, (w) => f(g(w)), opts.maxPoints ?? 3000).filter(
+		(p) => Number.isFinite(p.re) && Number.isFinite(p.im)
+	);
+}
+
+/**
+ * Nyquist curve G(jw) for w > 0, adaptively sampled. w in rad/s. For a discrete model, the curve
+ * G(e^(j w T)) for 0 < w <= pi / T (theta = w T in (0, pi]).
+ */
 export function nyquistCurve(model: Model, opts: CurveOptions = {}): CurvePoint[] {
+	if (isDiscrete(parseModel(model))) return discreteCurve(parseModel(model), opts, (g) => g);
 	const plant = plantOf(model);
 	const g = gEvaluator(plant);
 	const pts = refine(baseFrequencies(plant, opts), g, opts.maxPoints ?? 3000);
@@ -107,6 +161,7 @@ export function nyquistCurve(model: Model, opts: CurveOptions = {}): CurvePoint[
  * reported, rather than at the nearest sample of a curve.
  */
 export function frequencyResponse(model: Model, w: number): CurvePoint {
+	if (isDiscrete(parseModel(model))) return { w, ...discreteEvaluator(parseModel(model)).g(w) };
 	const plant = plantOf(model);
 	const g = gEvaluator(plant)(w / plant.w0);
 	return { w, re: g.re, im: g.im };
@@ -210,17 +265,16 @@ export function reZCurve(
 	sector: [number, number],
 	opts: CurveOptions = {}
 ): { w: number; reZ: number }[] {
-	const plant = plantOf(model);
 	const [k1, k2] = sector;
+	const zOf = (G: { re: number; im: number }) =>
+		divC(k2 === Infinity ? G : { re: 1 + k2 * G.re, im: k2 * G.im }, { re: 1 + k1 * G.re, im: k1 * G.im });
+	if (isDiscrete(parseModel(model)))
+		return discreteCurve(parseModel(model), opts, zOf).map((p) => ({ w: p.w, reZ: p.re }));
+	const plant = plantOf(model);
 	const g = gEvaluator(plant);
 	const core = circleCore(plant, k1, k2);
 	const focus = [...(opts.focus ?? [])];
 	if (core.argminX !== undefined && core.argminX !== null) focus.push(Math.sqrt(core.argminX) * plant.w0);
-	const z = (w: number) => {
-		const G = g(w);
-		const num = k2 === Infinity ? G : { re: 1 + k2 * G.re, im: k2 * G.im };
-		return divC(num, { re: 1 + k1 * G.re, im: k1 * G.im });
-	};
-	const pts = refine(baseFrequencies(plant, { ...opts, focus }), z, opts.maxPoints ?? 3000);
+	const pts = refine(baseFrequencies(plant, { ...opts, focus }), (w) => zOf(g(w)), opts.maxPoints ?? 3000);
 	return pts.filter((p) => Number.isFinite(p.re)).map((p) => ({ w: p.w * plant.w0, reZ: p.re }));
 }

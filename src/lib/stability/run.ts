@@ -6,7 +6,21 @@ import { runPopov } from './checks/popov';
 import { runPositiveReal } from './checks/positive-real';
 import { preparePlant } from './model';
 import { maxSectorLimits, popovAfter, preflight } from './preflight';
-import { type Check, type Model, ModelInputError, parseCase, parseCheck, parseModel } from './schema';
+import {
+	type Check,
+	type EngineCheck,
+	type Model,
+	ModelInputError,
+	checkFitsModel,
+	isDiscrete,
+	isMatrixCircle,
+	parseCase,
+	parseEngineCheck,
+	parseModel
+} from './schema';
+import { runMimoCircle } from './checks/mimo-circle';
+import { runDiscreteCircle, runDiscreteMaxSector, runTsypkin } from './checks/discrete';
+import { discreteModel } from './discrete-model';
 import { type EngineOptions, withBudget } from './budget';
 import { budgetResult } from './checks/circle-check';
 import type { CheckResult, Verdict } from './types';
@@ -29,7 +43,7 @@ function validModel(modelIn: unknown, path: string): Model {
  * One check on a validated model: the preflight (well-posedness, hidden modes; preflight.ts) first, then
  * the criterion. Every entry point below validates its input once and then comes here.
  */
-function runValidated(model: Model, check: Check, opts: EngineOptions): CheckResult {
+function runValidated(model: Model, check: EngineCheck, opts: EngineOptions): CheckResult {
 	// One budget over the whole check: the model's exact polynomials and the preflight's exact gcd count
 	// too, so no input can hold a worker past it (the criteria's own budgets then keep this deadline).
 	return withBudget(
@@ -45,7 +59,12 @@ function runValidated(model: Model, check: Check, opts: EngineOptions): CheckRes
 	);
 }
 
-function runBudgeted(model: Model, check: Check, opts: EngineOptions): CheckResult {
+function runBudgeted(model: Model, check: EngineCheck, opts: EngineOptions): CheckResult {
+	if (isMatrixCircle(check)) {
+		if (model.kind !== 'ss') throw new ModelInputError(checkFitsModel(model, check));
+		return runMimoCircle(model.A, model.B, model.C, check.sector, opts);
+	}
+	if (isDiscrete(model)) return runDiscrete(model, check, opts);
 	const plant = preparePlant(model);
 	const refused = preflight(plant, model, check);
 	if (refused) return refused;
@@ -60,16 +79,43 @@ function runBudgeted(model: Model, check: Check, opts: EngineOptions): CheckResu
 			return runMaxSector(plant, check.lower, maxSectorLimits(plant, check.lower), opts);
 		case 'margins':
 			return runMargins(plant, check.minGainMarginDb, check.minPhaseMarginDeg);
+		case 'tsypkin':
+			throw new ModelInputError(checkFitsModel(model, check));
 	}
+}
+
+/** A check on a discrete model (checkFitsModel has let only the discrete checks through). */
+function runDiscrete(modelIn: Model, check: Check, opts: EngineOptions): CheckResult {
+	const { model, conversion } = discreteModel(modelIn);
+	const r = ((): CheckResult => {
+		switch (check.type) {
+			case 'circle':
+				return runDiscreteCircle(model, check.sector[0], check.sector[1], opts);
+			case 'max-sector':
+				return runDiscreteMaxSector(model, check.lower, opts);
+			case 'tsypkin':
+				return runTsypkin(model, check.sector[1], opts);
+			default:
+				throw new ModelInputError(checkFitsModel(modelIn, check));
+		}
+	})();
+	return conversion ? { ...r, numbers: { ...r.numbers, ...conversion } } : r;
+}
+
+function fits(model: Model, check: EngineCheck, path: string): void {
+	const issues = checkFitsModel(model, check);
+	if (issues.length)
+		throw new ModelInputError(issues.map((i) => ({ path: `${path}.${i.path}`, message: i.message })));
 }
 
 /**
  * Run one check. Inputs are validated (ModelInputError on bad input); results are plain data.
  * `opts.budgetSeconds` bounds the circle, Popov and largest-sector checks (budget.ts, default 5 s).
  */
-export function runCheck(modelIn: Model, checkIn: Check, opts: EngineOptions = {}): CheckResult {
+export function runCheck(modelIn: Model, checkIn: EngineCheck, opts: EngineOptions = {}): CheckResult {
 	const model = validModel(modelIn, 'model');
-	const check = parseCheck(checkIn, 'check');
+	const check = parseEngineCheck(checkIn, 'check');
+	fits(model, check, 'check');
 	return runValidated(model, check, opts);
 }
 
@@ -88,6 +134,7 @@ function score(r: CheckResult): [number, number] {
 	switch (r.type) {
 		case 'max-sector':
 		case 'popov':
+		case 'tsypkin':
 			merit = num(r.threshold);
 			break;
 		case 'positive-real':
@@ -105,20 +152,21 @@ function score(r: CheckResult): [number, number] {
  */
 export function runCheckOnPoints(
 	points: { label: string; model: Model }[],
-	check: Check,
+	check: EngineCheck,
 	opts: EngineOptions = {}
 ): CheckResult & { worstPoint: string; perPoint: (CheckResult & { label: string })[] } {
 	if (!Array.isArray(points) || points.length === 0)
 		throw new ModelInputError([{ path: 'operatingPoints', message: 'operatingPoints is empty' }]);
-	const parsed = parseCheck(check, 'check');
+	const parsed = parseEngineCheck(check, 'check');
 	const models = points.map((p, i) => validModel(p.model, `operatingPoints[${i}].model`));
+	for (const m of models) fits(m, parsed, 'check');
 	return onPoints(points, models, parsed, opts);
 }
 
 function onPoints(
 	points: { label: string }[],
 	models: Model[],
-	check: Check,
+	check: EngineCheck,
 	opts: EngineOptions
 ): CheckResult & { worstPoint: string; perPoint: (CheckResult & { label: string })[] } {
 	const perPoint = points.map((p, i) => ({ label: p.label, ...runValidated(models[i], check, opts) }));

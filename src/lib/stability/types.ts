@@ -14,7 +14,7 @@ export type PositiveRealClass = 'SPR' | 'PR' | 'neither';
 export type NumberOrInf = number | 'Infinity' | '-Infinity';
 
 export interface CheckResult {
-	type: 'circle' | 'popov' | 'positive-real' | 'max-sector' | 'margins';
+	type: 'circle' | 'popov' | 'positive-real' | 'max-sector' | 'margins' | 'tsypkin';
 	verdict: Verdict;
 	class?: PositiveRealClass;
 	/** rad/s; where the deciding quantity is smallest. */

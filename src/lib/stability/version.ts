@@ -13,4 +13,9 @@
 // the old names kept as aliases for this version.
 // 2.0.1: min Re G of the positive-real check from the exact stationary points of Re G (frequency.ts);
 // linear gain range ends from exactly isolated axis crossings, the gains evaluated exactly there.
-export const ENGINE_VERSION = '2.0.1';
+// 2.1.0: discrete-time loops (sampleTime in z, zero-order hold with a bounded error, Jury's test, the discrete
+// circle criterion, its largest sector and the Tsypkin criterion); "delay" and "discretize" are known model
+// fields (a delay above 0 is refused for now), matrix sizes and check/domain mismatches named; the
+// multivariable circle criterion with a matrix sector {K1, K2} on square ss plants (D = 0); existing
+// verdicts unchanged.
+export const ENGINE_VERSION = '2.1.0';

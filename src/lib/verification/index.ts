@@ -4,3 +4,5 @@ export * from './evidence';
 export * from './placeholders';
 export * from './state';
 export * from './words';
+export * from './coverage';
+export * from './findings';

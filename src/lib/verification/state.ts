@@ -58,7 +58,8 @@ export const BLOCKER_KINDS = [
 	'not-analysed',
 	'no-evidence',
 	'no-method',
-	'child-not-verified'
+	'child-not-verified',
+	'open-finding'
 ] as const;
 export type BlockerKind = (typeof BLOCKER_KINDS)[number];
 
@@ -78,13 +79,24 @@ export const BLOCKER_LABELS: Record<BlockerKind, string> = {
 	'not-analysed': 'Specification without a model version to analyse',
 	'no-evidence': 'Method named but no accepted evidence',
 	'no-method': 'No verification method and no derived requirement',
-	'child-not-verified': 'A derived requirement is not verified'
+	'child-not-verified': 'A derived requirement is not verified',
+	'open-finding': 'Open finding'
 };
 
-/** How much a blocker weighs: the state a requirement takes from its worst blocker. */
-type Weight = 'not-proved' | 'not-applicable' | 'blocked' | 'pending' | 'missing';
-const WEIGHT_ORDER: Weight[] = ['not-proved', 'not-applicable', 'blocked', 'pending', 'missing'];
-const WEIGHT_STATE: Record<Weight, CombinedState> = {
+/**
+ * How much a blocker weighs: the state a requirement takes from its worst blocker. 'note' is an open
+ * item that does not move the state by itself (an open finding: its cause, a failed run or rejected
+ * evidence, already weighs on its own).
+ */
+type Weight = 'not-proved' | 'not-applicable' | 'blocked' | 'pending' | 'missing' | 'note';
+const WEIGHT_ORDER: Exclude<Weight, 'note'>[] = [
+	'not-proved',
+	'not-applicable',
+	'blocked',
+	'pending',
+	'missing'
+];
+const WEIGHT_STATE: Record<Exclude<Weight, 'note'>, CombinedState> = {
 	'not-proved': 'not-proved',
 	'not-applicable': 'not-applicable',
 	blocked: 'blocked',
@@ -120,6 +132,8 @@ export interface RequirementFacts {
 	evidence: readonly EvidenceFact[];
 	/** Active derived requirements (children), by id. */
 	children: readonly number[];
+	/** Labels ("F-3") of the findings against it not yet closed, deferred or declared not a defect (./findings.ts). */
+	openFindings?: readonly string[];
 }
 
 export interface VerificationState {
@@ -282,6 +296,13 @@ export function ownBlockers(f: RequirementFacts, engineVersion: string, hasChild
 	}
 	if (f.methods.length === 0 && !hasChildren)
 		add('no-method', 'missing', 'No verification method is named and nothing is derived from it.');
+	const findings = f.openFindings ?? [];
+	if (findings.length > 0)
+		add(
+			'open-finding',
+			'note',
+			`${findings.length === 1 ? 'Finding' : 'Findings'} ${listWords([...findings])} ${findings.length === 1 ? 'is' : 'are'} open against it.`
+		);
 	return out;
 }
 
@@ -371,9 +392,41 @@ export function verificationStates(
 	return result;
 }
 
-/** Blockers that refuse a baseline freeze: open values and verdicts not yet computed. */
+/**
+ * Blockers that refuse a baseline freeze: open values, verdicts not yet computed, and open findings (a
+ * deferred finding is not open: the baseline lists it instead).
+ */
 export function blocksFreeze(b: { kind: BlockerKind }): boolean {
-	return b.kind === 'placeholder' || b.kind === 'pending-run' || b.kind === 'stale-engine';
+	return (
+		b.kind === 'placeholder' ||
+		b.kind === 'pending-run' ||
+		b.kind === 'stale-engine' ||
+		b.kind === 'open-finding'
+	);
+}
+
+/**
+ * Blockers that refuse approving a requirement revision: what is wrong with its text (a placeholder, a
+ * statement that disagrees with its specification). Verdicts and evidence are not the approver's act.
+ */
+export function blocksApproval(b: { kind: BlockerKind }): boolean {
+	return b.kind === 'placeholder' || b.kind === 'disagreement';
 }
 
 export { ANALYSIS_LOOK };
+
+/**
+ * Whether a requirement's analysis state says something its one verification state does not: false
+ * when the combined words already carry it ("Verified by analysis" beside an analysis "Verified by
+ * analysis", "Not proved" twice, a pending run while the state is pending), so a page that shows both
+ * shows the state once.
+ */
+export function analysisAddsToState(
+	v: { state: CombinedState; label: string },
+	analysis: AnalysisState
+): boolean {
+	if (analysis === 'verified') return !(v.state === 'verified' && /\banalysis\b/.test(v.label));
+	if (analysis === 'not-proved' || analysis === 'not-applicable') return v.state !== analysis;
+	if (analysis === 'pending') return v.state !== 'pending';
+	return true;
+}

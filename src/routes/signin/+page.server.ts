@@ -3,17 +3,24 @@ import { PRECHECK_HEADER, signIn } from '$lib/server/auth';
 import { ServiceError, fieldErrors, type FieldErrors } from '$lib/server/errors';
 import { signInForm } from '$lib/server/identity/schema';
 import { checkCredentials, precheckNonce } from '$lib/server/identity/service';
+import { ssoProvider } from '$lib/server/identity/sso';
+import { SSO_REFUSALS } from '$lib/server/identity/sso-rules';
+import { safeRedirect } from '$lib/server/safe-redirect';
 import type { Actions, PageServerLoad } from './$types';
-
-/** Only same-site paths; anything else goes home. */
-function safeRedirect(v: unknown): string {
-	return typeof v === 'string' && v.startsWith('/') && !v.startsWith('//') && !v.startsWith('/\\') ? v : '/';
-}
 
 export const load = (async ({ locals, url }) => {
 	const redirectTo = safeRedirect(url.searchParams.get('redirectTo'));
 	if (locals.user) redirect(303, redirectTo);
-	return { redirectTo };
+	const sso = ssoProvider();
+	// ?sso=<code>: our refusal of a provider sign-in; ?error=...: Auth.js could not complete one.
+	const code = url.searchParams.get('sso');
+	const ssoMessage =
+		code && code in SSO_REFUSALS
+			? SSO_REFUSALS[code as keyof typeof SSO_REFUSALS]
+			: url.searchParams.get('error')
+				? 'The sign-in did not complete. Try again; if it keeps failing, the identity provider may be unreachable.'
+				: null;
+	return { redirectTo, sso: sso ? { name: sso.name } : null, ssoMessage };
 }) satisfies PageServerLoad;
 
 export const actions = {

@@ -137,6 +137,7 @@ describe('evidence pages', () => {
 
 		const page = `/p/${team.project.key}/evidence/${rec.id}`;
 		const missing = await certifier.action(`${page}?/review`, {
+			password: team.users.certifier.password,
 			decision: 'accepted',
 			comment: '',
 			revision: '1'
@@ -144,6 +145,7 @@ describe('evidence pages', () => {
 		expect(missing.type).toBe('failure');
 		expect((missing.data?.errors as Record<string, string>).comment).toMatch(/Say why/);
 		const ok = await certifier.action(`${page}?/review`, {
+			password: team.users.certifier.password,
 			decision: 'accepted',
 			comment: 'Rig 3 configuration as stated.',
 			revision: '1'

@@ -349,18 +349,21 @@ describe('accepted evidence is frozen', () => {
 			).status
 		).toBe(403);
 		const stale = await certifier.json(`/api/v1/evidence/${rec.id}/review`, 'POST', {
+			password: team.users.certifier.password,
 			decision: 'accepted',
 			comment: 'ok',
 			revision: 1
 		});
 		expect(stale.status).toBe(409);
 		const noComment = await certifier.json(`/api/v1/evidence/${rec.id}/review`, 'POST', {
+			password: team.users.certifier.password,
 			decision: 'accepted',
 			comment: ' ',
 			revision: 2
 		});
 		expect(noComment.status).toBe(400);
 		const accept = await certifier.json(`/api/v1/evidence/${rec.id}/review`, 'POST', {
+			password: team.users.certifier.password,
 			decision: 'accepted',
 			comment: 'Matches the rig configuration sheet.',
 			revision: 2
@@ -369,6 +372,7 @@ describe('accepted evidence is frozen', () => {
 		expect((await accept.json()).meaning).toMatch(/I confirm this evidence shows the requirement is met/);
 
 		const again = await certifier.json(`/api/v1/evidence/${rec.id}/review`, 'POST', {
+			password: team.users.certifier.password,
 			decision: 'rejected',
 			comment: 'no',
 			revision: 2

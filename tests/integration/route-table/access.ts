@@ -1,6 +1,7 @@
 import {
 	createBaseline,
 	createEvidence,
+	createPackageRecord,
 	createModel,
 	createModelVersion,
 	createRequirement,
@@ -119,7 +120,23 @@ const inProject: { route: string; method: string; path: string; body?: Record<st
 		route: '/api/v1/projects/[key=projectKey]/evidence',
 		method: 'GET',
 		path: '/api/v1/projects/{key}/evidence?requirement={ID}'
-	}
+	},
+	{
+		route: '/p/[key=projectKey]/baselines/[id=id]',
+		method: 'ACTION package',
+		path: '/p/{key}/baselines/{BASELINE}'
+	},
+	{
+		route: '/api/v1/projects/[key=projectKey]/baselines/[id=id]/package',
+		method: 'POST',
+		path: '/api/v1/projects/{key}/baselines/{BASELINE}/package',
+		body: { bogus: 1 }
+	},
+	...['', '/report.pdf', '/archive.zip'].map((f) => ({
+		route: `/api/v1/projects/[key=projectKey]/packages/[pkg=id]${f}`,
+		method: 'GET',
+		path: `/api/v1/projects/{key}/packages/{PACKAGE}${f}`
+	}))
 ];
 
 /** Routes that name only a resource id; the project is the resource's. */
@@ -181,9 +198,9 @@ const byId: {
 	}
 ];
 
-const missing = (path: string) => path.replace(/\{(ID|MODEL|EVIDENCE|BASELINE|RUN)\}/g, MISSING);
+const missing = (path: string) => path.replace(/\{(ID|MODEL|EVIDENCE|BASELINE|RUN|PACKAGE)\}/g, MISSING);
 const elsewhere = (path: string) =>
-	path.replace(/\{(ID|MODEL|EVIDENCE|BASELINE|RUN)\}/g, (_, k: string) => `{other${k}}`);
+	path.replace(/\{(ID|MODEL|EVIDENCE|BASELINE|RUN|PACKAGE)\}/g, (_, k: string) => `{other${k}}`);
 
 const edges: Omit<RouteCase, 'edge'>[] = [
 	...inProject.map((c) => ({
@@ -242,7 +259,9 @@ export async function prepare(ctx: PrepareContext): Promise<Record<string, strin
 	const run = await createRun(req.id, { engineVersion: ENGINE_VERSION, verdict: 'pass' });
 	const ev = await createEvidence(projectId, [req.id]);
 	const b = await createBaseline(projectId, 'Other project baseline');
+	const pkg = await createPackageRecord(projectId, Number(b.id));
 	return {
+		otherPACKAGE: String(pkg.id),
 		otherID: String(req.id),
 		otherMODEL: String(model.id),
 		otherEVIDENCE: String(ev.id),

@@ -41,6 +41,20 @@ export const cases: RouteCase[] = [
 		expect: membersOnly(401)
 	},
 	{
+		route: '/api/v1/projects/[key=projectKey]/preferences/trace-columns',
+		method: 'GET',
+		path: '/api/v1/projects/{key}/preferences/trace-columns',
+		expect: membersOnly(401)
+	},
+	// Every member sets their own columns; the body names an unknown column (400), so nothing is stored.
+	{
+		route: '/api/v1/projects/[key=projectKey]/preferences/trace-columns',
+		method: 'PUT',
+		path: '/api/v1/projects/{key}/preferences/trace-columns',
+		body: { columns: ['no-such-column'] },
+		expect: membersOnly(401)
+	},
+	{
 		route: '/api/v1/projects/[key=projectKey]/live',
 		method: 'GET',
 		path: '/api/v1/projects/{key}/live',

@@ -1,4 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createHash } from 'node:crypto';
 import { ENGINE_VERSION } from '../../../src/lib/stability/index';
 import {
 	closeTestDb,
@@ -33,8 +34,12 @@ interface Summary {
 	manifest_hash: string;
 }
 
-async function freeze(label: string): Promise<Summary> {
-	const res = await certifier.json(api(), 'POST', { label });
+async function freeze(label: string, confirmUnchanged?: boolean): Promise<Summary> {
+	const res = await certifier.json(api(), 'POST', {
+		label,
+		password: team.users.certifier.password,
+		...(confirmUnchanged ? { confirmUnchanged } : {})
+	});
 	const body = await res.json();
 	expect(res.status, JSON.stringify(body)).toBe(201);
 	return body;
@@ -78,7 +83,13 @@ afterAll(closeTestDb);
 describe('baseline manifest hash', () => {
 	it('is the same for the same state and changes with every change', async () => {
 		const first = await freeze('start');
-		const again = await freeze('start again');
+		// The same state again: refused until confirmed (issue 13), then frozen with the same hash.
+		const refused = await certifier.json(api(), 'POST', {
+			label: 'start again',
+			password: team.users.certifier.password
+		});
+		expect(refused.status).toBe(409);
+		const again = await freeze('start again', true);
 		expect(again.manifest_hash).toBe(first.manifest_hash);
 		expect(again.number).toBe(first.number + 1);
 
@@ -115,7 +126,7 @@ describe('baseline manifest hash', () => {
 		const hashes = [first.manifest_hash];
 		for (const [what, change] of changes) {
 			await change();
-			const b = await freeze(`after ${what}`);
+			const b = await freeze(`after ${what}`, what === 'trace link removed');
 			if (what === 'trace link removed') {
 				// Removing the link restores the state before it was added: the same manifest, the same hash.
 				expect(b.manifest_hash).toBe(hashes[hashes.length - 2]);
@@ -154,6 +165,71 @@ describe('baseline manifest hash', () => {
 	});
 });
 
+describe('a freeze with nothing changed (issue 13)', () => {
+	it('says "nothing changed since baseline N", stores nothing and freezes only when confirmed', async () => {
+		const t = await createTeam();
+		const c = await signedIn(t.users.certifier.email, t.users.certifier.password);
+		const url = `/api/v1/projects/${t.project.key}/baselines`;
+		await createRequirement(t.project.id, { title: 'Inspected wiring', methods: ['inspection'] });
+		const first = await c.json(url, 'POST', { label: 'Issue 1', password: t.users.certifier.password });
+		expect(first.status).toBe(201);
+		const b1 = (await first.json()) as Summary;
+
+		const res = await c.json(url, 'POST', { label: 'Issue 1 again', password: t.users.certifier.password });
+		expect(res.status).toBe(409);
+		const body = await res.json();
+		expect(body.error.message).toMatch(/^Nothing changed since baseline 1 \("Issue 1"\)/);
+		expect(body.error.unchangedSince).toEqual({
+			id: b1.id,
+			number: 1,
+			label: 'Issue 1',
+			manifestHash: b1.manifest_hash
+		});
+		const count = async () =>
+			Number((await testDb()('baselines').where({ project_id: t.project.id }).count('* as n').first())?.n);
+		expect(await count()).toBe(1);
+
+		// Unknown fields and a confirmation that is not a boolean are refused with the field named.
+		const unknown = await c.json(url, 'POST', { label: 'x', confirm: true });
+		expect(unknown.status).toBe(400);
+		expect((await unknown.json()).error.message).toContain('unknown field "confirm"');
+		const notBool = await c.json(url, 'POST', { label: 'x', confirmUnchanged: 'yes' });
+		expect(notBool.status).toBe(400);
+		expect((await notBool.json()).error.fields).toHaveProperty('confirmUnchanged');
+		expect(await count()).toBe(1);
+
+		// The page says it before the freeze and offers the confirmation.
+		const html = await (await c.get(`/p/${t.project.key}/baselines`, { accept: 'text/html' })).text();
+		expect(html).toContain('data-testid="unchanged"');
+		expect(html).toContain('Nothing changed since baseline 1');
+		expect(html).toContain('name="confirmUnchanged"');
+		// Without the box ticked the form is refused with the same words; ticked, it freezes baseline 2.
+		const form = await c.action(`/p/${t.project.key}/baselines?/freeze`, {
+			label: 'Issue 1b',
+			note: '',
+			password: t.users.certifier.password
+		});
+		expect(form.type).toBe('failure');
+		expect(form.status).toBe(409);
+		expect(JSON.stringify(form.data)).toContain('Nothing changed since baseline 1');
+		const ok = await c.action(`/p/${t.project.key}/baselines?/freeze`, {
+			label: 'Issue 1b',
+			note: '',
+			confirmUnchanged: 'true',
+			password: t.users.certifier.password
+		});
+		expect(ok.type).toBe('redirect');
+		const again = await c.json(url, 'POST', { label: 'Issue 1c', password: t.users.certifier.password });
+		expect((await again.json()).error.message).toMatch(/^Nothing changed since baseline 2 /);
+
+		// A change: no question asked.
+		await createRequirement(t.project.id, { title: 'Inspected connectors', methods: ['inspection'] });
+		const changed = await c.json(url, 'POST', { label: 'Issue 2', password: t.users.certifier.password });
+		expect(changed.status).toBe(201);
+		expect(await count()).toBe(3);
+	});
+});
+
 describe('baselines are immutable in the database', () => {
 	it('refuses UPDATE and DELETE', async () => {
 		const b = await testDb()('baselines').where({ project_id: team.project.id }).first('id', 'label');
@@ -180,7 +256,10 @@ describe('what blocks a baseline', () => {
 		const pend = await createRequirement(t.project.id, { title: 'Awaiting its run' });
 		await createSpec(pend.id, { modelId: m.id });
 		await createRequirement(t.project.id, { title: 'Fine', methods: ['inspection'] });
-		const res = await c.json(`/api/v1/projects/${t.project.key}/baselines`, 'POST', { label: 'blocked' });
+		const res = await c.json(`/api/v1/projects/${t.project.key}/baselines`, 'POST', {
+			label: 'blocked',
+			password: t.users.certifier.password
+		});
 		expect(res.status).toBe(409);
 		const body = await res.json();
 		expect(body.error.blockers).toEqual([
@@ -202,7 +281,11 @@ describe('what blocks a baseline', () => {
 		const stored = await testDb()('baselines').where({ project_id: t.project.id }).count('* as n').first();
 		expect(Number(stored?.n)).toBe(0);
 		// The form shows the same list.
-		const form = await c.action(`/p/${t.project.key}/baselines?/freeze`, { label: 'blocked', note: '' });
+		const form = await c.action(`/p/${t.project.key}/baselines?/freeze`, {
+			label: 'blocked',
+			note: '',
+			password: t.users.certifier.password
+		});
 		expect(form.type).toBe('failure');
 		expect(form.status).toBe(409);
 		expect(JSON.stringify(form.data)).toContain(tbd.identifier);
@@ -210,7 +293,7 @@ describe('what blocks a baseline', () => {
 		const html = await (await c.get(`/p/${t.project.key}/baselines`, { accept: 'text/html' })).text();
 		expect(html).toContain(`href="/p/${t.project.key}/requirements/${tbd.id}"`);
 		expect(html.match(/requirements block a baseline/g)?.length).toBe(1);
-		expect(html).toMatch(/<button class="btn" disabled[^>]*>Freeze baseline<\/button>/);
+		expect(html).toMatch(/<button class="btn" disabled[^>]*>Freeze and sign the release<\/button>/);
 	});
 
 	it('one placeholder of any kind the quality rules know blocks it (TBS too)', async () => {
@@ -220,7 +303,10 @@ describe('what blocks a baseline', () => {
 			statement: 'The loop shall be stable for gains up to TBS.',
 			methods: ['inspection']
 		});
-		const res = await c.json(`/api/v1/projects/${t.project.key}/baselines`, 'POST', { label: 'blocked' });
+		const res = await c.json(`/api/v1/projects/${t.project.key}/baselines`, 'POST', {
+			label: 'blocked',
+			password: t.users.certifier.password
+		});
 		expect(res.status).toBe(409);
 		const body = await res.json();
 		expect(body.error.message).toMatch(/^1 requirement blocks a baseline: /);
@@ -271,7 +357,10 @@ describe('comparison of two baselines', () => {
 		const ev = await createEvidence(pid, [r3.id], { title: 'Converter sweep' });
 
 		const post = async (label: string) => {
-			const res = await c.json(`/api/v1/projects/${t.project.key}/baselines`, 'POST', { label });
+			const res = await c.json(`/api/v1/projects/${t.project.key}/baselines`, 'POST', {
+				label,
+				password: t.users.certifier.password
+			});
 			expect(res.status).toBe(201);
 			return (await res.json()) as Summary;
 		};
@@ -376,5 +465,137 @@ describe('baseline export', () => {
 		const reqs = wb.getWorksheet('Requirements')!;
 		const a3row = reqs.getRows(2, 3)!.find((r) => r.getCell(1).value === a3.identifier)!;
 		expect(a3row.getCell(2).value).toBe(1);
+	});
+});
+
+describe('the frozen revision of each requirement (issue 15)', () => {
+	// A separate project, so the revisions made here change no manifest of the tests above.
+	let t: Awaited<ReturnType<typeof createTeam>>;
+	let cert: Client;
+	const base = () => `/api/v1/projects/${t.project.key}/baselines`;
+	const freezeT = async (label: string) => {
+		const res = await cert.json(base(), 'POST', { label, password: t.users.certifier.password });
+		const body = await res.json();
+		expect(res.status, JSON.stringify(body)).toBe(201);
+		return body as Summary;
+	};
+	const stored = async (id: number) => {
+		const res = await cert.get(`${base()}/${id}`, { accept: 'application/json' });
+		expect(res.status).toBe(200);
+		return res.json();
+	};
+	const entry = (b: { manifest: { requirements: { identifier: string }[] } }, identifier: string) =>
+		b.manifest.requirements.find((r) => r.identifier === identifier) as Record<string, unknown>;
+	let approved: { id: number; identifier: string };
+	let never: { id: number; identifier: string };
+
+	beforeAll(async () => {
+		t = await createTeam();
+		cert = await signedIn(t.users.certifier.email, t.users.certifier.password);
+		approved = await createRequirement(t.project.id, {
+			title: 'Roll loop inspection',
+			statement: 'The roll loop gain schedule shall be inspected against the sector bound.',
+			methods: ['inspection']
+		});
+		never = await createRequirement(t.project.id, {
+			title: 'Yaw loop inspection',
+			statement: 'The yaw loop gain schedule shall be inspected.',
+			methods: ['inspection'],
+			status: 'draft'
+		});
+	});
+
+	it('holds the approved revision, not a newer unapproved draft, and says which revision is frozen', async () => {
+		const r1 = await testDb()('requirement_revisions')
+			.where({ requirement_id: approved.id, revision: 1 })
+			.first();
+		await reviseRequirement(approved.id, {
+			statement: 'The roll loop gain schedule shall be inspected against the sector bound [0, 2].',
+			status: 'draft'
+		});
+		const b = await stored((await freezeT('approved text')).id);
+		expect(b.verified).toBe(true);
+		expect(entry(b, approved.identifier)).toMatchObject({
+			revision: 1,
+			statement: r1.statement,
+			title: r1.title,
+			contentHash: r1.content_hash,
+			frozen: { revision: 1, approvedRevision: 1, currentRevision: 2, newerUnapprovedRevision: true }
+		});
+		expect(JSON.stringify(b.manifest)).not.toContain('against the sector bound [0, 2]');
+		// Never approved: the current text, marked as such.
+		expect(entry(b, never.identifier)).toMatchObject({
+			revision: 1,
+			statement: 'The yaw loop gain schedule shall be inspected.',
+			frozen: { revision: 1, approvedRevision: null, currentRevision: 1, newerUnapprovedRevision: false }
+		});
+		const html = await (
+			await cert.get(`/p/${t.project.key}/baselines/${b.id}`, { accept: 'text/html' })
+		).text();
+		expect(html).toContain('the newer revision 2 is not approved and not in this baseline');
+		expect(html).toContain('revision 1, never approved');
+
+		// Once revision 2 is approved, the next baseline freezes its text.
+		await reviseRequirement(approved.id, { status: 'approved' });
+		const r3 = await testDb()('requirement_revisions')
+			.where({ requirement_id: approved.id, revision: 3 })
+			.first();
+		const after = await stored((await freezeT('revision 3 approved')).id);
+		expect(entry(after, approved.identifier)).toMatchObject({
+			revision: 3,
+			statement: r3.statement,
+			contentHash: r3.content_hash,
+			frozen: { revision: 3, approvedRevision: 3, currentRevision: 3, newerUnapprovedRevision: false }
+		});
+	});
+
+	it('a manifest frozen before the frozen revision was kept still verifies, and its hash is SHA-256 of the canonical JSON', async () => {
+		const list = (await (await cert.get(base(), { accept: 'application/json' })).json())
+			.baselines as Summary[];
+		const b = await stored(list[0].id);
+		// An older manifest: the same content without `frozen`, stored as it was then.
+		const old = {
+			...b.manifest,
+			requirements: b.manifest.requirements.map(({ frozen: _f, ...r }: Record<string, unknown>) => r)
+		};
+		// SHA-256 over JSON with keys sorted and no whitespace, written out here apart from the app's code.
+		const sorted = (v: unknown): unknown =>
+			Array.isArray(v)
+				? v.map(sorted)
+				: v && typeof v === 'object'
+					? Object.fromEntries(
+							Object.keys(v as object)
+								.sort()
+								.map((k) => [k, sorted((v as Record<string, unknown>)[k])])
+						)
+					: v;
+		const text = JSON.stringify(sorted(old));
+		const hash = createHash('sha256').update(text, 'utf8').digest('hex');
+		expect(
+			createHash('sha256')
+				.update(JSON.stringify(sorted(b.manifest)), 'utf8')
+				.digest('hex')
+		).toBe(b.manifest_hash);
+		const last = await testDb()('baselines').where({ project_id: t.project.id }).max('number as n').first();
+		const [row] = await testDb()('baselines')
+			.insert({
+				project_id: t.project.id,
+				number: Number(last?.n ?? 0) + 1,
+				label: 'older format',
+				manifest: text,
+				manifest_hash: hash,
+				engine_version: b.manifest.engineVersion,
+				requirement_count: old.requirements.length,
+				created_by_label: 'baselines test'
+			})
+			.returning('id');
+		const oldBaseline = await stored(Number(row.id));
+		expect(oldBaseline.verified).toBe(true);
+		expect(oldBaseline.manifest_hash).toBe(hash);
+		expect(entry(oldBaseline, approved.identifier).frozen).toBeUndefined();
+		const html = await (
+			await cert.get(`/p/${t.project.key}/baselines/${row.id}`, { accept: 'text/html' })
+		).text();
+		expect(html).toContain(hash);
 	});
 });

@@ -23,9 +23,9 @@ describe('coverage dashboard', () => {
 		const verified = expected.verified ?? 0;
 		expect(html).toContain(`${verified} of 7</span>`);
 		// r5 and r6 are verified by their own methods; none through derived requirements here.
-		expect(html).toContain(`<span class="tabular" data-how="directly">${verified}</span>`);
-		// Drill-down: each state's count links to the matrix filtered by that state.
-		expect(html).toContain(`href="/p/${s.team.project.key}/trace?state=not-proved"`);
+		expect(html).toMatch(new RegExp(`data-how="directly"[^>]*>${verified}</a>`));
+		// Drill-down: each state's count links to the matrix filtered by that count (coverage-drilldown.test.ts).
+		expect(html).toContain(`href="/p/${s.team.project.key}/trace?count=state.not-proved"`);
 		expect(html).toContain('Results support engineering judgement');
 		const point = await testDb()('coverage_snapshots').where({ project_id: s.team.project.id }).first();
 		expect(point.counts.total).toBe(7);

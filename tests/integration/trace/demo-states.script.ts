@@ -9,7 +9,7 @@ import { closeDb, db } from '../../../src/lib/server/db';
 import { processRun } from '../../../src/lib/server/analyses/run';
 import { createModel, publishVersion } from '../../../src/lib/server/models/service';
 import { addLink, createRequirement, setSpecification } from '../../../src/lib/server/requirements/service';
-import { stateWords, writeWorkbook } from '../../../src/lib/server/trace/export';
+import { sourceOf, stateWords, writeWorkbook } from '../../../src/lib/server/trace/export';
 import { matrixAll, snapshot } from '../../../src/lib/server/trace/service';
 import { verificationOf } from '../../../src/lib/server/verification/service';
 
@@ -142,7 +142,7 @@ const snap = await snapshot(project.id);
 const out = new PassThrough();
 const chunks: Buffer[] = [];
 out.on('data', (c: Buffer) => chunks.push(c));
-await writeWorkbook(snap, { exportedAt: new Date(), exportedBy: 'test', baseline: null }, out);
+await writeWorkbook(sourceOf(snap), { exportedAt: new Date(), exportedBy: 'test', baseline: null }, out);
 const wb = new ExcelJS.Workbook();
 await wb.xlsx.load(Buffer.concat(chunks) as never);
 const sheet = wb.getWorksheet('Trace matrix')!;

@@ -418,14 +418,20 @@ async function check(b: Built) {
 	for (const st of Object.keys(COMBINED_LOOK))
 		expect(point.counts.states[st] ?? 0, `coverage ${st}`).toBe(expectedCounts[st] ?? 0);
 	for (const [h, n] of Object.entries(how))
-		expect(covHtml).toContain(`<span class="tabular" data-how="${h}">${n}</span>`);
+		// Each way of being verified is a link to exactly its rows (coverage-drilldown.test.ts).
+		expect(covHtml).toMatch(
+			new RegExp(`<a class="tabular" data-how="${h}" href="[^"]+count=how.${h}">${n}</a>`)
+		);
 
 	// Baseline: the freeze check refuses exactly the requirements whose blockers refuse a freeze; a
 	// frozen manifest holds the same states and blockers.
 	const blockedIds = b.reqs
 		.filter((r) => !retired.has(r.id) && want(r.id).blockers.some(blocksFreeze))
 		.map((r) => r.identifier);
-	const freeze = await certifier.json(`${base}/baselines`, 'POST', { label: 'generated' });
+	const freeze = await certifier.json(`${base}/baselines`, 'POST', {
+		label: 'generated',
+		password: team.users.certifier.password
+	});
 	if (blockedIds.length) {
 		expect(freeze.status).toBe(409);
 		const err = (await freeze.json()).error;

@@ -5,9 +5,25 @@ import { CAPABILITIES, ROLES, allows, capabilities, rolesFor } from '../../../sr
 // (DEVELOPERS.md and the route table state the same), not computed from the table under test.
 const GRANTS: Record<(typeof ROLES)[number], string[]> = {
 	viewer: ['read'],
-	engineer: ['read', 'writeRequirements', 'uploadEvidence', 'setTolerance'],
-	analyst: ['read', 'writeModels', 'uploadEvidence', 'setTolerance'],
-	certifier: ['read', 'uploadEvidence', 'reviewEvidence', 'freezeBaselines']
+	engineer: [
+		'read',
+		'writeRequirements',
+		'uploadEvidence',
+		'setTolerance',
+		'reviewRequirements',
+		'workFindings'
+	],
+	analyst: ['read', 'writeModels', 'uploadEvidence', 'setTolerance', 'reviewRequirements', 'workFindings'],
+	certifier: [
+		'read',
+		'uploadEvidence',
+		'reviewEvidence',
+		'freezeBaselines',
+		'reviewRequirements',
+		'workFindings',
+		'decideFindings',
+		'generatePackages'
+	]
 };
 
 describe('role table', () => {

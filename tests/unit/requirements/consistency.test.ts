@@ -71,4 +71,17 @@ describe('statement numbers vs the specification', () => {
 		);
 		expect(checkConsistency('The loop shall remain absolutely stable.', null).status).toBe('no-spec');
 	});
+
+	it('a sector with a bound not typed yet is not compared (no "[∞, ∞]" hint while the form is empty)', () => {
+		for (const sector of [
+			[NaN, NaN],
+			[0.4, NaN]
+		])
+			expect(
+				checkConsistency('The loop shall remain absolutely stable in [0.4, 1.8].', {
+					check: { type: 'circle', sector } as never,
+					requiredMargin: null
+				})
+			).toEqual({ status: 'no-spec', findings: [], matched: [] });
+	});
 });

@@ -16,6 +16,25 @@ import {
 const good = { kind: 'tf', num: [1], den: [1, 3, 2] };
 const withModel = (model: unknown) => ({ model, checks: [{ type: 'circle', sector: [0, 1] }] });
 const withCheck = (check: unknown) => ({ model: good, checks: [check] });
+const MIMO = {
+	kind: 'ss',
+	A: [
+		[-1, 0],
+		[0, -2]
+	],
+	B: [
+		[1, 0],
+		[0, 1]
+	],
+	C: [
+		[1, 0],
+		[0, 1]
+	],
+	D: [
+		[0, 0],
+		[0, 0]
+	]
+};
 
 // [name, case, expected path fragment, expected message fragment]
 const bad: [string, unknown, string, RegExp][] = [
@@ -138,10 +157,211 @@ const bad: [string, unknown, string, RegExp][] = [
 	],
 	// Issue 11, defect 8: unknown fields are refused, never dropped.
 	[
-		'unknown model field "delay"',
-		withModel({ kind: 'tf', num: [1], den: [1, 1], delay: 1 }),
+		// "delay" is a known field since engine 2.1 (a transport delay); a misspelling of it is still refused.
+		'unknown model field "dealy"',
+		withModel({ kind: 'tf', num: [1], den: [1, 1], dealy: 1 }),
+		'model.dealy',
+		/unknown field "dealy"/
+	],
+	[
+		// Engine 2.1 (issue 17, items 5 and 6): sample time, delay, matrix sizes, domain of the check.
+		'sample time zero',
+		withModel({ kind: 'tf', num: [1], den: [1, -0.5], sampleTime: 0 }),
+		'model.sampleTime',
+		/sampleTime must be above 0/
+	],
+	[
+		'sample time negative',
+		withModel({ kind: 'zpk', zeros: [], poles: [[0.5, 0]], gain: 1, sampleTime: -0.1 }),
+		'model.sampleTime',
+		/sampleTime must be above 0/
+	],
+	[
+		'sample time not a number',
+		withModel({ kind: 'tf', num: [1], den: [1, -0.5], sampleTime: '0.1' }),
+		'model.sampleTime',
+		/sampleTime must be a number/
+	],
+	[
+		'NaN sample time (TypeScript caller)',
+		withModel({ kind: 'tf', num: [1], den: [1, -0.5], sampleTime: NaN }),
+		'model.sampleTime',
+		/sampleTime must be/
+	],
+	[
+		'NaN-like: an infinite sample time (TypeScript caller; JSON has no Infinity)',
+		withModel({ kind: 'tf', num: [1], den: [1, -0.5], sampleTime: Infinity }),
+		'model.sampleTime',
+		/sampleTime must be/
+	],
+	[
+		'negative delay',
+		withModel({ kind: 'tf', num: [1], den: [1, 1], delay: -0.01 }),
 		'model.delay',
-		/unknown field "delay"/
+		/delay must not be negative/
+	],
+	[
+		'delay on a discrete model',
+		withModel({ kind: 'tf', num: [1], den: [1, -0.5], sampleTime: 0.1, delay: 0 }),
+		'model.delay',
+		/discrete model/
+	],
+	[
+		'zero-order hold with a bad sample time',
+		withModel({ kind: 'tf', num: [1], den: [1, 1], discretize: { method: 'zoh', sampleTime: 0 } }),
+		'model.discretize.sampleTime',
+		/above 0/
+	],
+	[
+		'unknown discretisation method',
+		withModel({ kind: 'tf', num: [1], den: [1, 1], discretize: { method: 'tustin', sampleTime: 0.1 } }),
+		'model.discretize.method',
+		/"zoh"/
+	],
+	[
+		'discrete state space with a non-square A',
+		withModel({ kind: 'ss', A: [[0.5, 0], [0]], B: [[1], [0]], C: [[1, 0]], D: [[0]], sampleTime: 0.1 }),
+		'model.A[1]',
+		/not square/
+	],
+	[
+		'rows of B of unequal length',
+		withModel({
+			kind: 'ss',
+			A: [
+				[-1, 0],
+				[0, -2]
+			],
+			B: [[1, 0], [1]],
+			C: [[1, 0]],
+			D: [[0]]
+		}),
+		'model.B',
+		/B must be 2xp/
+	],
+	[
+		'a discrete model given to a continuous check (Popov)',
+		{
+			model: { kind: 'tf', num: [0.5], den: [1, -0.5], sampleTime: 0.1 },
+			checks: [{ type: 'popov', sector: [0, 1] }]
+		},
+		'checks[0].type',
+		/continuous models, and this model is discrete/
+	],
+	[
+		'a discrete model given to the margins check',
+		{ model: { kind: 'tf', num: [0.5], den: [1, -0.5], sampleTime: 0.1 }, checks: [{ type: 'margins' }] },
+		'checks[0].type',
+		/discrete/
+	],
+	[
+		'a continuous model given to the Tsypkin check',
+		{ model: good, checks: [{ type: 'tsypkin', sector: [0, 1] }] },
+		'checks[0].type',
+		/for discrete models/
+	],
+	[
+		'Tsypkin sector not starting at 0',
+		{
+			model: { kind: 'tf', num: [0.5], den: [1, -0.5], sampleTime: 0.1 },
+			checks: [{ type: 'tsypkin', sector: [0.1, 1] }]
+		},
+		'checks[0].sector[0]',
+		/k1 must be 0/
+	],
+	[
+		// Multivariable (issue 17, items 3 and 6).
+		'matrix sector with K2 - K1 not positive definite',
+		{
+			model: MIMO,
+			checks: [
+				{
+					type: 'circle',
+					sector: {
+						K1: [
+							[0, 0],
+							[0, 0]
+						],
+						K2: [
+							[1, 0],
+							[0, -1]
+						]
+					}
+				}
+			]
+		},
+		'checks[0].sector.K2',
+		/positive definite/
+	],
+	[
+		'matrix sector not symmetric',
+		{
+			model: MIMO,
+			checks: [
+				{
+					type: 'circle',
+					sector: {
+						K1: [
+							[0, 0],
+							[0, 0]
+						],
+						K2: [
+							[1, 0.5],
+							[0.4, 1]
+						]
+					}
+				}
+			]
+		},
+		'checks[0].sector.K2',
+		/symmetric/
+	],
+	[
+		'matrix sector of the wrong size for the plant',
+		{
+			model: MIMO,
+			checks: [{ type: 'circle', sector: { K1: [[0]], K2: [[1]] } }]
+		},
+		'checks[0].sector.K1',
+		/must be 2x2/
+	],
+	[
+		'K2 not square',
+		{
+			model: MIMO,
+			checks: [
+				{
+					type: 'circle',
+					sector: {
+						K1: [
+							[0, 0],
+							[0, 0]
+						],
+						K2: [[1, 0], [0]]
+					}
+				}
+			]
+		},
+		'checks[0].sector.K2',
+		/square/
+	],
+	[
+		'a scalar sector on a multivariable plant',
+		{ model: MIMO, checks: [{ type: 'circle', sector: [0, 1] }] },
+		'checks[0].sector',
+		/matrix sector/
+	],
+	[
+		'C of the wrong size for a multivariable plant',
+		withModel({ ...MIMO, C: [[1, 0]] }),
+		'model.C',
+		/C must be 2x2/
+	],
+	[
+		'D of the wrong size for a multivariable plant',
+		withModel({ ...MIMO, D: [[0]] }),
+		'model.D',
+		/D must be 2x2/
 	],
 	[
 		'misspelt model field',

@@ -1,5 +1,5 @@
 import { scaleLinear, type ScaleLinear } from 'd3-scale';
-import type { sectorGeometry } from '$lib/stability';
+import type { sectorGeometry } from '../../stability/index';
 
 // Shared geometry of the complex-plane plots: an equal-aspect frame (one unit is as long on both axes,
 // so circles stay circles) with ticks from d3-scale.
@@ -208,3 +208,89 @@ export function exitsOf(frame: Frame, xy: [number, number][]): { x: number; y: n
 	}
 	return out.slice(0, 8);
 }
+
+// The drawing rules of the verdict plots, shared by the web components (NyquistPlot, PopovPlot) and the
+// data package's PDF report (src/lib/server/packages/pdf-plots.ts), so both show the same picture.
+
+/** Region outlines: the tested region red and solid; the stated one dark and dashed; several
+ * requirements' regions (the publish preview) each their own colour, dash and hatch angle. */
+export const REGION_STROKES = ['#a12a22', '#1d4f8c', '#8a5a00', '#5b3a8c', '#1f6f43'];
+export const HATCH_ANGLES = [45, -45, 90, 22, -68];
+export function regionLook(
+	role: 'tested' | 'stated' | undefined,
+	i: number
+): { stroke: string; dash: string; hatch: number; width: number } {
+	if (role === 'tested') return { stroke: REGION_STROKES[0], dash: '', hatch: 0, width: 1.6 };
+	if (role === 'stated') return { stroke: '#172a30', dash: '6 3', hatch: -1, width: 1.4 };
+	return {
+		stroke: REGION_STROKES[i % REGION_STROKES.length],
+		dash: DASHES[i % DASHES.length],
+		hatch: i,
+		width: 1.5
+	};
+}
+
+/**
+ * The frame of a Nyquist plot: the curves (mirrored for negative frequencies), the regions, the
+ * critical point −1 and the marker decide what is shown (focusedBox); `far` says a curve leaves it.
+ */
+export function nyquistFrame(
+	curves: [number, number][][],
+	regions: SectorGeometry[],
+	marker: { re: number; im: number } | null,
+	mirror: boolean,
+	width: number,
+	height: number
+): { frame: Frame; far: boolean } {
+	const all: [number, number][] = [];
+	for (const c of curves) for (const [a, b] of c) all.push([a, b], mirror ? [a, -b] : [a, b]);
+	const focus = [
+		...regions.map(regionBox),
+		{ x0: -1, x1: -1, y0: 0, y1: 0 },
+		...(marker ? [{ x0: marker.re, x1: marker.re, y0: marker.im, y1: marker.im }] : [])
+	];
+	const { box, far } = focusedBox(all, focus);
+	return { frame: makeFrame(box, width, height), far };
+}
+
+/** The frame of a Popov plot: the curve, each line over the curve's height, and the marker. */
+export function popovFrame(
+	points: [number, number][],
+	lines: { k: number; q: number }[],
+	marker: { re: number; im: number } | null,
+	width: number,
+	height: number
+): Frame {
+	const ys = points.map((p) => p[1]).filter(Number.isFinite);
+	const lo = Math.min(0, ...ys);
+	const hi = Math.max(0, ...ys);
+	return makeFrame(
+		robustBox(points, [
+			...lines.map((l) => {
+				const xs = [-1 / l.k + l.q * lo, -1 / l.k + l.q * hi, -1 / l.k];
+				return { x0: Math.min(...xs), x1: Math.max(...xs), y0: 0, y1: 0 };
+			}),
+			...(marker ? [{ x0: marker.re, x1: marker.re, y0: marker.im, y1: marker.im }] : [])
+		]),
+		width,
+		height,
+		false
+	);
+}
+
+/**
+ * A Popov line x − q y = −1/k in pixels, as two points at the frame's top and bottom (vertical when
+ * q = 0), and the polygon of its forbidden (left) side (Khalil, Nonlinear Systems, 3rd ed., section 7.1).
+ */
+export function popovLineGeometry(frame: Frame, l: { k: number; q: number }) {
+	const [y0, y1] = frame.y.domain();
+	const xAt = (y: number) => -1 / l.k + l.q * y;
+	const a = { x: frame.x(xAt(y0)), y: frame.y(y0) };
+	const b = { x: frame.x(xAt(y1)), y: frame.y(y1) };
+	const far = innerRect(frame).x - 2000;
+	return { a, b, forbidden: `M${far},${a.y}L${a.x},${a.y}L${b.x},${b.y}L${far},${b.y}Z` };
+}
+
+/** Sector lines with a usable k (finite, positive) are drawn; others have no line. */
+export const usablePopovLines = <T extends { k: number }>(lines: T[]): T[] =>
+	lines.filter((l) => Number.isFinite(l.k) && l.k > 0);

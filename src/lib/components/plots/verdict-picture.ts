@@ -1,4 +1,4 @@
-import { decisionRegions, frequencyText, sectorOf, type DecisionRegion } from '$lib/verification/decision';
+import { decisionRegions, frequencyText, sectorOf, type DecisionRegion } from '../../verification/decision';
 import type { SectorGeometry } from './frame';
 
 // What a verdict's picture shows, read from one stored run and nothing else (pure, no drawing):

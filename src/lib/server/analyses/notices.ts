@@ -30,7 +30,12 @@ interface FinishedRun {
 	trigger_ref: string | null;
 }
 
-function outcomeOf(r: { status: string; verdict: string | null; not_applicable?: unknown }): Outcome | null {
+/** The analysis state a finished run gives (null while it is not finished); findings use it too. */
+export function outcomeOf(r: {
+	status: string;
+	verdict: string | null;
+	not_applicable?: unknown;
+}): Outcome | null {
 	if (r.status !== 'error' && !(r.status === 'done' && r.verdict)) return null;
 	return analysisStateOf({
 		specId: 0,

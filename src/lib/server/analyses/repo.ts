@@ -279,13 +279,36 @@ export async function claimRuns(trx: Db, ids: number[]): Promise<ClaimedRun[]> {
 	).rows;
 }
 
-/** Store a claimed run's outcome; nothing when another attempt finished it first. */
-export const storeOutcome = (trx: Db, id: number, outcome: Record<string, unknown>) =>
-	trx('analysis_runs')
-		.where({ id, status: 'running' })
-		.update({ ...outcome, finished_at: trx.fn.now() })
-		.returning([...FINISHED_COLUMNS])
-		.then((rows) => rows[0] as FinishedRow | undefined);
+export interface RunOutcomeRow {
+	id: number;
+	status: 'done' | 'error';
+	verdict: string | null;
+	result: unknown;
+	worst_point: string | null;
+	curves: unknown;
+	output_hash: string | null;
+	error: string | null;
+	duration_ms: number;
+}
+
+/**
+ * Store the outcomes of a batch of claimed runs in one statement; a run another attempt finished first
+ * is left alone (only runs still 'running' are written). Returns the rows written, in id order.
+ */
+export async function storeOutcomes(trx: Db, outcomes: RunOutcomeRow[]): Promise<FinishedRow[]> {
+	if (outcomes.length === 0) return [];
+	const r = await trx.raw(
+		`update analysis_runs ar set status = v.status, verdict = v.verdict, result = v.result,
+				worst_point = v.worst_point, curves = v.curves, output_hash = v.output_hash, error = v.error,
+				duration_ms = v.duration_ms, finished_at = now()
+			from jsonb_to_recordset(?::jsonb) as v(id bigint, status text, verdict text, result jsonb,
+				worst_point text, curves jsonb, output_hash text, error text, duration_ms integer)
+			where ar.id = v.id and ar.status = 'running'
+			returning ${FINISHED_COLUMNS.map((c) => `ar.${c}`).join(', ')}`,
+		[JSON.stringify(outcomes)]
+	);
+	return (r.rows as FinishedRow[]).sort((a, b) => Number(a.id) - Number(b.id));
+}
 
 // --- Verdict-change notices (notices.ts) ---------------------------------------------------------
 
@@ -423,3 +446,43 @@ export async function waitingRuns(db: Db): Promise<{ waiting: number; oldest: nu
 	);
 	return r.rows[0] as { waiting: number; oldest: number };
 }
+
+// --- Worker heartbeats (migration 20261202160000) -------------------------------------------------
+
+export interface HeartbeatRow {
+	worker_id: string;
+	host: string;
+	pid: number;
+	started_at: Date;
+	beat_at: Date;
+	stopped_at: Date | null;
+	/** Seconds since the last beat, by the database's clock (one clock for every machine). */
+	age_seconds: number;
+}
+
+export const heartbeats = {
+	async beat(db: Db, w: { workerId: string; host: string; pid: number }): Promise<void> {
+		await db.raw(
+			`insert into worker_heartbeats (worker_id, host, pid) values (?, ?, ?)
+			on conflict (worker_id) do update set beat_at = now(), stopped_at = null`,
+			[w.workerId, w.host, w.pid]
+		);
+	},
+	async stopped(db: Db, workerId: string): Promise<void> {
+		await db.raw(`update worker_heartbeats set stopped_at = now() where worker_id = ?`, [workerId]);
+	},
+	/** Forget workers silent for a day (each start adds a row). */
+	async prune(db: Db): Promise<void> {
+		await db.raw(`delete from worker_heartbeats where beat_at < now() - interval '1 day'`);
+	},
+	/** The most recent workers, newest beat first. */
+	async recent(db: Db, limit = 10): Promise<HeartbeatRow[]> {
+		const r = await db.raw(
+			`select worker_id, host, pid, started_at, beat_at, stopped_at,
+				extract(epoch from now() - beat_at)::float8 as age_seconds
+			from worker_heartbeats order by beat_at desc limit ?`,
+			[limit]
+		);
+		return r.rows as HeartbeatRow[];
+	}
+};

@@ -44,6 +44,12 @@ export const baselines = {
 		db('baselines').where({ project_id: projectId, id }).first(SUMMARY) as Promise<
 			BaselineSummary | undefined
 		>,
+	/** The latest baseline of the project whose manifest has this SHA-256 (nothing changed since it). */
+	withHash: (db: Db, projectId: number, hash: string) =>
+		db('baselines')
+			.where({ project_id: projectId, manifest_hash: hash })
+			.orderBy('number', 'desc')
+			.first(SUMMARY) as Promise<BaselineSummary | undefined>,
 	/** Lock the project so two freezes number their baselines one after the other. */
 	nextNumber: async (db: Db, projectId: number): Promise<number> => {
 		await db('projects').where({ id: projectId }).forUpdate().first('id');

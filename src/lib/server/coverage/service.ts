@@ -3,7 +3,10 @@ import {
 	COMBINED_STATES,
 	HOW_VERIFIED,
 	type BlockerKind,
+	inCount,
+	isCounted,
 	type CombinedState,
+	type CoverageCount,
 	type HowVerified
 } from '../../verification/index';
 import { db } from '../db';
@@ -42,26 +45,27 @@ function groupBy(rows: MatrixRow[], key: (r: MatrixRow) => string, order: string
 		if (!m.has(k)) m.set(k, { key: k, total: 0, states: zero() });
 		const g = m.get(k)!;
 		g.total++;
-		g.states[r.state]++;
+		for (const s of COMBINED_STATES) if (inCount(`state.${s}`, r)) g.states[s]++;
 	}
 	return [...m.values()];
 }
 
 export function coverageOf(all: MatrixRow[]): Omit<Coverage, 'trend'> {
-	const rows = all.filter((r) => r.status !== 'retired');
-	const states = zero();
-	for (const r of rows) states[r.state]++;
+	// Every count is a count of inCount (src/lib/verification/coverage.ts), the predicate the trace
+	// matrix filters with (its `count` parameter): a count's link opens exactly its rows.
+	const rows = all.filter(isCounted);
+	const n = (count: CoverageCount, within: MatrixRow[] = rows) => within.filter((r) => inCount(count, r)).length;
+	const states = Object.fromEntries(COMBINED_STATES.map((s) => [s, n(`state.${s}`)])) as StateCounts;
 	return {
 		total: rows.length,
 		states,
 		byLevel: groupBy(rows, (r) => r.level, ['system', 'subsystem', 'loop']),
 		byAssurance: groupBy(rows, (r) => r.assuranceLevel, ['A', 'B', 'C', 'D', 'E']),
-		how: Object.fromEntries(
-			HOW_VERIFIED.map((h) => [h, rows.filter((r) => r.how === h).length])
-		) as Record<HowVerified, number>,
-		blocking: Object.fromEntries(
-			BLOCKER_KINDS.map((k) => [k, rows.filter((r) => r.blockers.some((b) => b.kind === k)).length])
-		) as Record<BlockerKind, number>
+		how: Object.fromEntries(HOW_VERIFIED.map((h) => [h, n(`how.${h}`)])) as Record<HowVerified, number>,
+		blocking: Object.fromEntries(BLOCKER_KINDS.map((k) => [k, n(`blocker.${k}`)])) as Record<
+			BlockerKind,
+			number
+		>
 	};
 }
 

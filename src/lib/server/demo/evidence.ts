@@ -3,7 +3,8 @@ import { modelSchema } from '../../stability/index';
 import type { Actor } from '../audit';
 import { modelResponse } from '../evidence/comparison';
 import { reviewEvidence, uploadEvidence } from '../evidence/service';
-import { DEMO_PROJECT } from './accounts';
+import { confirmSigner } from '../identity/reauth';
+import { DEMO_PASSWORD, DEMO_PROJECT } from './accounts';
 
 // Demo mode only: test evidence for the invented VX7 scenario, uploaded and reviewed through the same
 // services as the app. A wing-tilt rig sweep (generated from the ground-vibration-test model with small,
@@ -138,6 +139,19 @@ export async function seedDemoEvidence(knex: Knex): Promise<number> {
 				decision: 'accepted',
 				comment: 'Configuration matches the sector of the requirement.',
 				revision: 1
+			},
+			// The certifier signs as in the app: the password re-entered at signing.
+			signer: {
+				id: certifier.userId!,
+				email: certifier.label,
+				name: 'Chidi Laurent',
+				confirmation: await confirmSigner(
+					null,
+					{ id: certifier.userId!, email: certifier.label },
+					{
+						password: DEMO_PASSWORD
+					}
+				)
 			}
 		});
 		added++;

@@ -44,6 +44,8 @@ export interface ReviewRow {
 	reviewer_label: string;
 	reviewer_role: string;
 	sha256: string;
+	/** The signature of the decision (null only for rows older than signatures). */
+	signature_id: number | null;
 	reviewed_at: Date;
 }
 
@@ -154,9 +156,14 @@ export const evidenceRepo = {
 			})
 			.whereIn('l.evidence_file_id', fileIds)
 			.orderBy('r.identifier')
-			.select('l.evidence_file_id', 'r.id', 'r.identifier', 'rr.title', 'r.current_spec_id') as Promise<
-			(RequirementRef & { evidence_file_id: number })[]
-		>,
+			.select(
+				'l.evidence_file_id',
+				'r.id',
+				'r.identifier',
+				'rr.title',
+				'r.current_spec_id',
+				'rr.assurance_level'
+			) as Promise<(RequirementRef & { evidence_file_id: number; assurance_level: string | null })[]>,
 
 	/** Requirements of a project named by id or identifier (identifiers compared case-insensitively). */
 	requirementsByRef: (db: Db, projectId: number, ids: number[], identifiers: string[]) =>

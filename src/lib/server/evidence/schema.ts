@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { MEANINGS } from '../signatures/meanings';
 import { FREQUENCY_UNITS, LAYOUTS, MAGNITUDE_UNITS } from './frequency-response';
 
 export const EVIDENCE_KINDS = ['frequency-response', 'test-report', 'log', 'other'] as const;
@@ -16,12 +17,10 @@ export type VerificationMethod = (typeof VERIFICATION_METHODS)[number];
 export const DECISIONS = ['accepted', 'rejected'] as const;
 export type Decision = (typeof DECISIONS)[number];
 
-/** What a certifier's decision means; stored with the decision (a sign-off records its meaning). */
+/** What a certifier's decision means: the meaning of its signature (signatures/meanings.ts). */
 export const SIGN_OFF_MEANING: Record<Decision, string> = {
-	accepted:
-		'I confirm this evidence shows the requirement is met for the stated test article and configuration, and that the file I reviewed has the SHA-256 recorded here.',
-	rejected:
-		'I find that this evidence does not show the requirement is met for the stated test article and configuration; the reason is in my comment.'
+	accepted: MEANINGS['evidence.accept'],
+	rejected: MEANINGS['evidence.reject']
 };
 
 // Empty form fields mean "not given".
@@ -90,7 +89,9 @@ export const reviewForm = z.object({
 		.trim()
 		.min(1, 'Say why: the comment is part of the record.')
 		.max(4000, 'At most 4000 characters.'),
-	revision: z.coerce.number({ error: 'Which revision?' }).int().positive('Which revision?')
+	revision: z.coerce.number({ error: 'Which revision?' }).int().positive('Which revision?'),
+	// Re-entered at signing (identity/reauth.ts checks it before the review is attempted).
+	password: z.string().optional()
 });
 
 export const toleranceForm = z.object({

@@ -72,7 +72,9 @@ export const OWNED_TABLES = {
 	model: 'models',
 	evidence: 'evidence',
 	run: 'analysis_runs',
-	baseline: 'baselines'
+	baseline: 'baselines',
+	finding: 'findings',
+	import: 'imports'
 } as const;
 export type OwnedKind = keyof typeof OWNED_TABLES;
 

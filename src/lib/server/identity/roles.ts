@@ -33,7 +33,15 @@ export const CAPABILITIES = {
 	/** Set a requirement's model-versus-test tolerance. */
 	setTolerance: ['engineer', 'analyst'],
 	/** Freeze a baseline. */
-	freezeBaselines: ['certifier']
+	freezeBaselines: ['certifier'],
+	/** Generate a data package (report and archive) of a baseline or a draft of the present state. */
+	generatePackages: ['certifier'],
+	/** Comment on requirement revisions in review; named reviewers approve or return them (signed). */
+	reviewRequirements: ['engineer', 'analyst', 'certifier'],
+	/** Raise findings by hand, move them open / in work / resolved, reassign them. */
+	workFindings: ['engineer', 'analyst', 'certifier'],
+	/** Close, defer or declare "not a defect" a finding (signed). */
+	decideFindings: ['certifier']
 } as const satisfies Record<string, readonly Role[]>;
 
 export type Capability = keyof typeof CAPABILITIES;

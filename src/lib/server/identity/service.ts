@@ -104,13 +104,16 @@ export async function activeUser(id: number): Promise<UserRow | undefined> {
 }
 
 export async function createProject(actor: Actor, input: { key: string; name: string; description: string }) {
-	if (await projects.byKey(db(), input.key)) {
-		throw new ServiceError(409, `A project with the key ${input.key} exists already.`, {
+	const taken = () =>
+		new ServiceError(409, `A project with the key ${input.key} exists already.`, {
 			key: 'This key is taken.'
 		});
-	}
+	if (await projects.byKey(db(), input.key)) throw taken();
 	return db().transaction(async (trx) => {
-		const p = await projects.insert(trx, input);
+		// Two admins creating the same key at once: the second meets the unique index, told the same way.
+		const p = await projects.insert(trx, input).catch((e: { code?: string }) => {
+			throw e?.code === '23505' ? taken() : e;
+		});
 		await recordEvent(trx, actor, {
 			projectId: p.id,
 			action: 'project.create',

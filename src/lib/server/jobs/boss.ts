@@ -8,6 +8,8 @@ import type { Db } from '../db';
 // is (its status and attempts) lives in analysis_runs alone (analyses/run.ts).
 
 export const RUN_QUEUE = 'analysis-run';
+/** A job says "build data package N" (src/lib/server/packages); its record is data_packages.status. */
+export const PACKAGE_QUEUE = 'data-package';
 export const BOSS_SCHEMA = 'pgboss';
 /** NOTIFY channel: wakes idle workers when runs are queued (delivered when the queuing transaction commits). */
 export const RUNS_CHANNEL = 'lw_analysis_runs';
@@ -27,6 +29,14 @@ export function runJobPolicy() {
 		retryBackoff: false,
 		expireInSeconds: runs.expireSeconds
 	};
+}
+
+/**
+ * A package build is long (minutes for a large project): it expires after 15 minutes and is handed out
+ * again twice at most; the package's record (attempts) decides whether it is built again.
+ */
+export function packageJobPolicy() {
+	return { retryLimit: 2, retryDelay: 5, retryBackoff: false, expireInSeconds: 15 * 60 };
 }
 
 let started: Promise<PgBoss> | undefined;
@@ -64,6 +74,13 @@ export function getBoss(as: 'producer' | 'worker' = 'producer'): Promise<PgBoss>
 			existing.retryLimit !== policy.retryLimit
 		) {
 			await boss.updateQueue(RUN_QUEUE, { name: RUN_QUEUE, ...policy });
+		}
+		if (!(await boss.getQueue(PACKAGE_QUEUE))) {
+			try {
+				await boss.createQueue(PACKAGE_QUEUE, { name: PACKAGE_QUEUE, ...packageJobPolicy() });
+			} catch (e) {
+				if (!(await boss.getQueue(PACKAGE_QUEUE))) throw e;
+			}
 		}
 		return boss;
 	})();
@@ -140,4 +157,23 @@ export async function failRunJobs(ids: string[], message: string): Promise<void>
 	if (ids.length === 0) return;
 	const boss = await getBoss();
 	await (boss.fail as unknown as Many).call(boss, RUN_QUEUE, ids, { message });
+}
+
+/** Queue the build of a data package, in the caller's transaction. */
+export async function sendPackageJob(trx: Db, packageId: number): Promise<void> {
+	const boss = await getBoss();
+	await boss.insert([{ name: PACKAGE_QUEUE, data: { packageId }, ...packageJobPolicy() }], {
+		db: knexExecutor(trx)
+	});
+	await trx.raw('select pg_notify(?, ?)', [RUNS_CHANNEL, 'package']);
+}
+
+/** Complete (or fail, to be handed out again) a package job. */
+export async function completePackageJob(id: string): Promise<void> {
+	const boss = await getBoss();
+	await boss.complete(PACKAGE_QUEUE, id);
+}
+export async function failPackageJob(id: string, message: string): Promise<void> {
+	const boss = await getBoss();
+	await boss.fail(PACKAGE_QUEUE, id, { message });
 }

@@ -1,9 +1,12 @@
 import { z } from 'zod';
-import { modelSchema, strictIn } from '../../stability/index';
+import { strictIn } from '../../stability/index';
+import { modelInputSchema } from '../../models/entry/index';
 
 // Loop models and their versions. A version's content is { operatingPoints: [{ label, model }] } with
-// each model in one of the engine's forms (tf / zpk / ss), validated by the engine's own schema. Unknown
-// fields are refused everywhere (a misspelt or unsupported field would otherwise be dropped silently).
+// each model in one of the engine's forms (tf / zpk / ss), validated by the engine's own schema; a model
+// sent as { kind: "expression", expression } is read into the equal tf first (models/entry), so it is
+// stored and hashed as that tf. Unknown fields are refused everywhere (a misspelt or unsupported field
+// would otherwise be dropped silently).
 
 export const MODEL_FILE_FORMAT = 'loopwarden-model/1';
 export const MAX_OPERATING_POINTS = 50;
@@ -38,7 +41,7 @@ export const operatingPoint = z.strictObject(
 			.trim()
 			.min(1, 'Give each operating point a label, e.g. "hover, 20 C".')
 			.max(80, 'A label has at most 80 characters.'),
-		model: modelSchema
+		model: modelInputSchema
 	},
 	strictIn('an operating point')
 );

@@ -10,6 +10,8 @@ export interface RequirementRow {
 	identifier: string;
 	current_revision: number;
 	current_spec_id: number | null;
+	review_state: string;
+	approved_revision: number | null;
 	created_by: number | null;
 	created_at: Date;
 	updated_at: Date;
@@ -91,7 +93,10 @@ function viewQuery(db: Db) {
 			'r.current_spec_id',
 			'r.updated_at',
 			'o.display_name as owner_name',
-			'o.email as owner_email'
+			'o.email as owner_email',
+			// The review state of the current revision (the revision's own column is what it was written with).
+			'r.review_state as status',
+			'r.approved_revision'
 		);
 }
 
@@ -106,6 +111,11 @@ export const projectsForRequirements = {
 		return n;
 	},
 	lock: (db: Db, projectId: number) => db('projects').where({ id: projectId }).forUpdate().first('id'),
+	/** After an identifier <KEY>-<n> came from a file: the counter continues above n. */
+	moveNumberPast: (db: Db, projectId: number, n: number) =>
+		db('projects')
+			.where({ id: projectId })
+			.update({ next_requirement_number: db.raw('greatest(next_requirement_number, ?)', [n + 1]) }),
 	isMember: async (db: Db, projectId: number, userId: number) =>
 		!!(await db('memberships').where({ project_id: projectId, user_id: userId }).first('user_id')),
 	members: (db: Db, projectId: number) =>
@@ -123,6 +133,8 @@ export const requirements = {
 		row: { project_id: number; number: number; identifier: string; created_by: number | null }
 	) => (await db('requirements').insert(row).returning('*'))[0] as RequirementRow,
 	byId: (db: Db, id: number) => db<RequirementRow>('requirements').where({ id }).first(),
+	byIdentifier: (db: Db, projectId: number, identifier: string) =>
+		db<RequirementRow>('requirements').where({ project_id: projectId, identifier }).first(),
 	// NO KEY UPDATE: serialises edits of one requirement without blocking the foreign-key checks of
 	// concurrent run inserts (a model publish), which would otherwise deadlock with a specification edit.
 	lock: (db: Db, id: number) => db<RequirementRow>('requirements').where({ id }).forNoKeyUpdate().first(),
@@ -135,7 +147,7 @@ export const requirements = {
 	views: (db: Db, ids: number[]) => viewQuery(db).whereIn('r.id', ids) as Promise<RequirementView[]>,
 	list: (db: Db, projectId: number, f: ListFilters) => {
 		const q = viewQuery(db).where('r.project_id', projectId);
-		if (f.status) q.where('v.status', f.status);
+		if (f.status) q.where('r.review_state', f.status);
 		if (f.level) q.where('v.level', f.level);
 		if (f.owner) q.where('v.owner_id', f.owner);
 		if (f.q) {

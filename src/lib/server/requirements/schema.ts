@@ -5,7 +5,13 @@ import { SPEC_TEMPLATES } from '../../requirements/templates';
 export const LEVELS = ['system', 'subsystem', 'loop'] as const;
 export const ASSURANCE_LEVELS = ['A', 'B', 'C', 'D', 'E'] as const;
 export const METHODS = ['analysis', 'test', 'inspection', 'demonstration'] as const;
-export const STATUSES = ['draft', 'in-review', 'approved', 'retired'] as const;
+/**
+ * The review state of a requirement's current revision. Only draft and retired are written with a
+ * revision; in review, approved and returned are reached through the review workflow (review.ts), with
+ * signatures for approving and returning.
+ */
+export const STATUSES = ['draft', 'in-review', 'approved', 'returned', 'retired'] as const;
+export const WRITABLE_STATUSES = ['draft', 'retired'] as const;
 export type Level = (typeof LEVELS)[number];
 export type AssuranceLevel = (typeof ASSURANCE_LEVELS)[number];
 export type Method = (typeof METHODS)[number];
@@ -15,6 +21,7 @@ export const STATUS_LABELS: Record<Status, string> = {
 	draft: 'draft',
 	'in-review': 'in review',
 	approved: 'approved',
+	returned: 'returned for rework',
 	retired: 'retired'
 };
 
@@ -46,7 +53,10 @@ const methods = z
 	})
 	.min(1, 'Choose at least one verification method.')
 	.transform((m) => [...new Set(m)].sort((a, b) => METHODS.indexOf(a) - METHODS.indexOf(b)));
-const status = z.enum(STATUSES, { error: 'Choose draft, in-review, approved or retired.' });
+const status = z.enum(WRITABLE_STATUSES, {
+	error:
+		'Choose draft or retired: review and approval go through the review workflow (request a review, then reviewers sign).'
+});
 const changeNote = z
 	.string({ error: 'The change note must be text.' })
 	.trim()
@@ -98,7 +108,9 @@ export type ListFilters = z.infer<typeof listFilters>;
 /** The same filters for the API, where a bad value is a 400 naming the parameter rather than ignored. */
 export const listFiltersStrict = z
 	.object({
-		status: z.enum(STATUSES, { error: 'status is one of draft, in-review, approved, retired.' }).optional(),
+		status: z
+			.enum(STATUSES, { error: 'status is one of draft, in-review, approved, returned, retired.' })
+			.optional(),
 		level: z.enum(LEVELS, { error: 'level is one of system, subsystem, loop.' }).optional(),
 		owner: z.coerce
 			.number({ error: 'owner is a user id.' })

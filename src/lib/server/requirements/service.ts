@@ -1,6 +1,6 @@
 import { createHash } from 'node:crypto';
 import { checkConsistency } from '../../requirements/consistency';
-import { approvalBlockers, qualityHints } from '../../requirements/quality';
+import { qualityHints } from '../../requirements/quality';
 import { enqueueForRequirement } from '../analyses/queue';
 import {
 	verificationOf,
@@ -8,7 +8,7 @@ import {
 	type RequirementVerification
 } from '../verification/service';
 import { COMBINED_LOOK, type VerificationState } from '../../verification/index';
-import { canonical, historyOf, recordEvent, type Actor, type StoredEvent } from '../audit';
+import { canonical, eventView, historyOf, recordEvent, type Actor, type StoredEvent } from '../audit';
 import { db, readTogether, type Db } from '../db';
 import type { Knex } from 'knex';
 import { ServiceError } from '../errors';
@@ -81,21 +81,8 @@ export function identifierOf(key: string, n: number): string {
 	return `${key}-${String(n).padStart(3, '0')}`;
 }
 
-function refuseApprovalWithPlaceholders(f: RevisionFields) {
-	if (f.status !== 'approved') return;
-	const blockers = approvalBlockers(f.statement);
-	if (blockers.length === 0) return;
-	const names = [...new Set(blockers.map((b) => f.statement.slice(b.span![0], b.span![1])))].join(', ');
-	throw new ServiceError(
-		422,
-		`The statement still holds ${names}: replace the placeholder before approving.`,
-		{
-			status: `Approval is blocked: the statement holds ${names}.`,
-			statement: `Replace ${names} with the value.`
-		},
-		{ blockers: blockers.map((b) => ({ rule: b.rule, message: b.message, span: b.span })) }
-	);
-}
+/** The status a revision is written with: retired stays retired, anything else starts as a draft. */
+export const writtenStatus = (s: string) => (s === 'retired' ? 'retired' : 'draft');
 
 async function checkOwner(trx: Db, projectId: number, ownerId: number | null) {
 	if (ownerId == null) throw new ServiceError(400, 'Choose an owner.', { ownerId: 'Choose an owner.' });
@@ -347,22 +334,36 @@ function historyView(revs: RevisionRows, specList: SpecRows, events: StoredEvent
 			createdAt: new Date(r.created_at).toISOString()
 		})),
 		specifications: specList.map(specView),
-		events: events.map((e) => ({
-			seq: Number(e.seq),
-			at: new Date(e.at).toISOString(),
-			actor: e.actor_label,
-			action: e.action,
-			before: e.before,
-			after: e.after
-		}))
+		events: events.map(eventView)
 	};
 }
 
 // ---- changing ----
 
-/** Create a requirement: the next identifier of the project (never reused) and revision 1. */
-export async function createRequirement(actor: Actor, project: ProjectRef, input: CreateRequirement) {
-	return db().transaction(async (trx) => {
+/**
+ * How an import calls the acts below: inside its own transaction (`conn`; each act then runs in a
+ * savepoint of it), with an identifier from the file, and with the project's derived-from edges it
+ * keeps itself (so a thousand links do not read the project's links a thousand times; addLink still
+ * decides the cycle rule on them and appends what it adds).
+ */
+export interface ActOptions {
+	conn?: Db;
+	identifier?: string;
+	edges?: { child_id: number; parent_id: number }[];
+}
+
+/**
+ * Create a requirement: the next identifier of the project (never reused) and revision 1. An import may
+ * keep the identifier a file gives (`opts.identifier`) when the project does not use it; the counter
+ * then moves past it when it has the project's own form, so no later identifier can repeat it.
+ */
+export async function createRequirement(
+	actor: Actor,
+	project: ProjectRef,
+	input: CreateRequirement,
+	opts: ActOptions = {}
+) {
+	return (opts.conn ?? db()).transaction(async (trx) => {
 		const fields: RevisionFields = {
 			title: input.title,
 			statement: input.statement,
@@ -371,12 +372,21 @@ export async function createRequirement(actor: Actor, project: ProjectRef, input
 			assuranceLevel: input.assuranceLevel,
 			methods: input.methods,
 			ownerId: input.ownerId ?? actor.userId ?? null,
-			status: input.status
+			status: writtenStatus(input.status)
 		};
 		await checkOwner(trx, project.id, fields.ownerId);
-		refuseApprovalWithPlaceholders(fields);
 		const n = await projects.takeNumber(trx, project.id);
-		const identifier = identifierOf(project.key, n);
+		let identifier = identifierOf(project.key, n);
+		if (opts.identifier !== undefined && opts.identifier !== identifier) {
+			identifier = opts.identifier;
+			if (await requirements.byIdentifier(trx, project.id, identifier)) {
+				throw new ServiceError(409, `${identifier} is already a requirement of this project.`, {
+					identifier: 'This identifier is taken.'
+				});
+			}
+			const own = new RegExp(`^${project.key}-(\\d+)$`).exec(identifier);
+			if (own) await projects.moveNumberPast(trx, project.id, Number(own[1]));
+		}
 		const req = await requirements.insert(trx, {
 			project_id: project.id,
 			number: n,
@@ -421,12 +431,18 @@ function revisionRow(requirementId: number, revision: number, f: RevisionFields,
  * one, nothing is written and a 409 says what changed since (yours = what you sent, theirs = current).
  * An edit that changes nothing makes no revision.
  */
-export async function reviseRequirement(actor: Actor, requirementId: number, input: ReviseRequirement) {
-	return db().transaction(async (trx) => {
+export async function reviseRequirement(
+	actor: Actor,
+	requirementId: number,
+	input: ReviseRequirement,
+	opts: ActOptions = {}
+) {
+	return (opts.conn ?? db()).transaction(async (trx) => {
 		const req = await requirements.lock(trx, requirementId);
 		if (!req) throw new ServiceError(404, 'There is no such requirement.');
 		const currentRow = await revisions.get(trx, requirementId, req.current_revision);
-		const current = fieldsOf(currentRow!);
+		// A revision is written as a draft (or retired); its review happens afterwards (review.ts).
+		const current = { ...fieldsOf(currentRow!), status: writtenStatus(currentRow!.status) };
 		const next: RevisionFields = { ...current };
 		for (const k of FIELD_NAMES) {
 			const v = input[k];
@@ -457,7 +473,6 @@ export async function reviseRequirement(actor: Actor, requirementId: number, inp
 			);
 		}
 		if (next.ownerId !== current.ownerId) await checkOwner(trx, Number(req.project_id), next.ownerId);
-		refuseApprovalWithPlaceholders(next);
 		if (same(next, current)) {
 			return {
 				id: requirementId,
@@ -490,13 +505,13 @@ export async function reviseRequirement(actor: Actor, requirementId: number, inp
 }
 
 /** child is derived from parent. Refuses links across projects, duplicates and cycles (naming the cycle). */
-export async function addLink(actor: Actor, childId: number, parentId: number) {
+export async function addLink(actor: Actor, childId: number, parentId: number, opts: ActOptions = {}) {
 	if (childId === parentId) {
 		throw new ServiceError(400, 'A requirement cannot be derived from itself.', {
 			parentId: 'Choose another requirement.'
 		});
 	}
-	return db().transaction(async (trx) => {
+	return (opts.conn ?? db()).transaction(async (trx) => {
 		const child = await requirements.byId(trx, childId);
 		const parent = await requirements.byId(trx, parentId);
 		if (!child) throw new ServiceError(404, 'There is no such requirement.');
@@ -512,7 +527,7 @@ export async function addLink(actor: Actor, childId: number, parentId: number) {
 				parentId: 'This link exists already.'
 			});
 		}
-		const edges = await links.activeInProject(trx, Number(child.project_id));
+		const edges = opts.edges ?? (await links.activeInProject(trx, Number(child.project_id)));
 		const path = pathUp(edges, parentId, childId);
 		if (path) {
 			const ids = [childId, ...path];
@@ -533,6 +548,7 @@ export async function addLink(actor: Actor, childId: number, parentId: number) {
 			parent_revision: parent.current_revision,
 			created_by: actor.userId ?? null
 		});
+		opts.edges?.push({ child_id: childId, parent_id: parentId });
 		await audit(trx, actor, Number(child.project_id), 'requirement.link', childId, null, {
 			derivedFrom: parent.identifier,
 			childRevision: child.current_revision,
@@ -609,8 +625,13 @@ export async function removeLink(actor: Actor, requirementId: number, linkId: nu
  * A new version of the requirement's stability specification (rows are immutable). Returns the
  * current one unchanged when nothing differs.
  */
-export async function setSpecification(actor: Actor, requirementId: number, input: SpecificationInput) {
-	return db().transaction(async (trx) => {
+export async function setSpecification(
+	actor: Actor,
+	requirementId: number,
+	input: SpecificationInput,
+	opts: ActOptions = {}
+) {
+	return (opts.conn ?? db()).transaction(async (trx) => {
 		const req = await requirements.lock(trx, requirementId);
 		if (!req) throw new ServiceError(404, 'There is no such requirement.');
 		const model = await models.lock(trx, input.modelId);

@@ -9,6 +9,7 @@ import {
 	ROLL_UP_RULE,
 	VERDICT_LOOK
 } from '../../verification/index';
+import { CSV_BOM, csvLine } from './csv';
 import type { MatrixBlocker, MatrixRow, Snapshot, SnapshotRequirement } from './service';
 
 // The spreadsheet and CSV exports of a snapshot (the current state or a baseline's manifest). The
@@ -168,7 +169,7 @@ async function table<T>(
 	wb: ExcelJS.stream.xlsx.WorkbookWriter,
 	name: string,
 	columns: SheetColumn<T>[],
-	rows: Iterable<T>
+	rows: Iterable<T> | AsyncIterable<T>
 ) {
 	const ws = wb.addWorksheet(name, { views: [{ state: 'frozen', ySplit: 1 }] });
 	ws.columns = columns.map((c) => ({ header: c.header, width: c.width }));
@@ -176,7 +177,7 @@ async function table<T>(
 	// The header row is written by the columns setter; commit it, then every data row as it is added.
 	ws.getRow(1).commit();
 	let n = 0;
-	for (const r of rows) {
+	for await (const r of rows) {
 		ws.addRow(columns.map((c) => c.value(r))).commit();
 		// addRow is synchronous: let the zip stream compress and drain what was written, so memory holds
 		// a few hundred rows of XML rather than a whole sheet.
@@ -185,12 +186,47 @@ async function table<T>(
 	ws.commit();
 }
 
-function* openLines(rows: MatrixRow[]): Generator<OpenLine> {
-	for (const r of rows) for (const item of blockersOf(r)) yield { r, item };
+async function* openLines(rows: AsyncIterable<MatrixRow>): AsyncGenerator<OpenLine> {
+	for await (const r of rows) for (const item of blockersOf(r)) yield { r, item };
 }
 
-/** Write the workbook of a snapshot into a stream; resolves when the last byte is written. */
-export async function writeWorkbook(snap: Snapshot, cover: Cover, out: Writable): Promise<void> {
+async function* analysisLines(rows: AsyncIterable<SnapshotRequirement>): AsyncGenerator<AnalysisLine> {
+	for await (const r of rows) if (r.latestRun !== null) yield r as AnalysisLine;
+}
+
+/**
+ * What a workbook is written from: a snapshot read from cursors (trace/service.ts openSnapshot; each
+ * call of requirements() is a new pass) or a stored one (a baseline's manifest, see sourceOf).
+ */
+export interface WorkbookSource {
+	project: Snapshot['project'];
+	engineVersion: string;
+	total: number;
+	requirements(): AsyncIterable<SnapshotRequirement>;
+	evidence(): AsyncIterable<Snapshot['evidence'][number]>;
+}
+
+/** A stored snapshot as a workbook source. */
+export function sourceOf(snap: Snapshot): WorkbookSource {
+	async function* each<T>(list: T[]) {
+		yield* list;
+	}
+	return {
+		project: snap.project,
+		engineVersion: snap.engineVersion,
+		total: snap.requirements.length,
+		requirements: () => each(snap.requirements),
+		evidence: () => each(snap.evidence)
+	};
+}
+
+/**
+ * Write the workbook into a stream; resolves when the last byte is written. Each sheet is one pass over
+ * its rows (exceljs's streaming writer zips the sheets one after another, so sheets written side by
+ * side would be buffered whole): the cover first, then matrix, requirements, analyses, evidence, open
+ * items.
+ */
+export async function writeWorkbook(snap: WorkbookSource, cover: Cover, out: Writable): Promise<void> {
 	const wb = new ExcelJS.stream.xlsx.WorkbookWriter({
 		stream: out,
 		// No cell styles: they cost about a third of the export time on 10,000 rows. The header stays
@@ -225,7 +261,7 @@ export async function writeWorkbook(snap: Snapshot, cover: Cover, out: Writable)
 			: []),
 		['Filters', cover.filters || 'none (every requirement)'],
 		['Engine version', snap.engineVersion],
-		['Requirements', snap.requirements.length],
+		['Requirements', snap.total],
 		['Caution', CAUTION_TITLE],
 		['', CAUTION_TEXT],
 		...ROLL_UP_RULE.map((line, i) => [i === 0 ? 'Verification rule' : '', line] as [string, string])
@@ -235,38 +271,35 @@ export async function writeWorkbook(snap: Snapshot, cover: Cover, out: Writable)
 	}
 	ws.commit();
 
-	await table(wb, 'Trace matrix', MATRIX_COLUMNS, snap.requirements);
-	await table(wb, 'Requirements', REQUIREMENT_COLUMNS, snap.requirements);
-	await table(
-		wb,
-		'Analyses',
-		ANALYSIS_COLUMNS,
-		snap.requirements.filter((r): r is AnalysisLine => r.latestRun !== null)
-	);
-	await table(wb, 'Evidence', EVIDENCE_COLUMNS, snap.evidence);
-	await table(wb, 'Open items', OPEN_COLUMNS, openLines(snap.requirements));
+	await table(wb, 'Trace matrix', MATRIX_COLUMNS, snap.requirements());
+	await table(wb, 'Requirements', REQUIREMENT_COLUMNS, snap.requirements());
+	await table(wb, 'Analyses', ANALYSIS_COLUMNS, analysisLines(snap.requirements()));
+	await table(wb, 'Evidence', EVIDENCE_COLUMNS, snap.evidence());
+	await table(wb, 'Open items', OPEN_COLUMNS, openLines(snap.requirements()));
 	await wb.commit();
 }
 
-/** A web stream of the workbook, for a Response body. Errors end the stream (the client sees a cut file). */
-export function workbookStream(snap: Snapshot, cover: Cover): ReadableStream<Uint8Array> {
+/**
+ * A web stream of the workbook, for a Response body. Errors end the stream (the client sees a cut
+ * file); `done` runs when the stream ended either way (a cursor snapshot's close).
+ */
+export function workbookStream(
+	snap: WorkbookSource | Snapshot,
+	cover: Cover,
+	done?: () => Promise<void>
+): ReadableStream<Uint8Array> {
 	const pass = new PassThrough();
-	writeWorkbook(snap, cover, pass).catch((e) => {
-		console.error('[trace] workbook export failed:', e);
-		pass.destroy(e as Error);
-	});
+	const source = 'format' in snap ? sourceOf(snap) : snap;
+	writeWorkbook(source, cover, pass)
+		.catch((e) => {
+			console.error('[trace] workbook export failed:', e);
+			pass.destroy(e as Error);
+		})
+		.finally(() => done?.().catch((e) => console.error('[trace] closing the export snapshot:', e)));
 	return Readable.toWeb(pass) as ReadableStream<Uint8Array>;
 }
 
-function csvCell(v: Cell): string {
-	if (v === null) return '';
-	const s = String(v);
-	return /[",\r\n]/.test(s) || /^[=+\-@]/.test(s)
-		? `"${(/^[=+\-@]/.test(s) ? "'" : '') + s.replace(/"/g, '""')}"`
-		: s;
-}
-
-/** The matrix sheet as CSV (RFC 4180, CRLF), streamed row by row. */
+/** The matrix sheet as CSV (./csv.ts: byte-order mark, RFC 4180, formula guard), streamed row by row. */
 export function csvStream(rows: MatrixRow[]): ReadableStream<Uint8Array> {
 	const enc = new TextEncoder();
 	let i = -1;
@@ -274,12 +307,11 @@ export function csvStream(rows: MatrixRow[]): ReadableStream<Uint8Array> {
 		pull(controller) {
 			const chunk: string[] = [];
 			if (i === -1) {
-				chunk.push(MATRIX_COLUMNS.map((c) => csvCell(c.header)).join(',') + '\r\n');
+				chunk.push(CSV_BOM + csvLine(MATRIX_COLUMNS.map((c) => c.header)));
 				i = 0;
 			}
 			const end = Math.min(rows.length, i + 500);
-			for (; i < end; i++)
-				chunk.push(MATRIX_COLUMNS.map((c) => csvCell(c.value(rows[i]))).join(',') + '\r\n');
+			for (; i < end; i++) chunk.push(csvLine(MATRIX_COLUMNS.map((c) => c.value(rows[i]))));
 			controller.enqueue(enc.encode(chunk.join('')));
 			if (i >= rows.length) controller.close();
 		}

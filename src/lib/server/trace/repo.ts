@@ -75,7 +75,7 @@ function escapeLike(s: string): string {
 const MATRIX_SQL = `
 with cur as materialized (
 	select r.id, r.number, r.identifier, r.current_revision as revision, r.current_spec_id, r.updated_at,
-		rr.title, rr.level, rr.assurance_level, rr.methods, rr.status, rr.owner_id, u.display_name as owner_name,
+		rr.title, rr.level, rr.assurance_level, rr.methods, r.review_state as status, rr.owner_id, u.display_name as owner_name,
 		rr.created_at as revised_at, st.state_rank
 	from requirements r
 	join unnest(:stateIds::bigint[], :stateRanks::int[]) as st(id, state_rank) on st.id = r.id
@@ -143,6 +143,48 @@ export async function matrix(
 	offset: number,
 	states: { ids: number[]; ranks: number[] }
 ): Promise<MatrixDbRow[]> {
+	const { sql, b } = matrixStatement(projectId, q, limit, offset, states);
+	// A page is one statement (prepared by the pool, see db.ts); the whole matrix (exports, baselines)
+	// gets room for its sorts in memory, in its own transaction.
+	if (limit !== null) return (await db.raw(sql, b as never)).rows as MatrixDbRow[];
+	const run = async (trx: Db) => {
+		await trx.raw("set local work_mem = '32MB'");
+		return (await trx.raw(sql, b as never)).rows as MatrixDbRow[];
+	};
+	return (db as { isTransaction?: boolean }).isTransaction ? run(db) : (db as Knex).transaction(run);
+}
+
+/**
+ * The whole matrix from a cursor (pg-query-stream through Knex), a few hundred rows at a time: for the
+ * exports, which write each row and forget it. Call inside a transaction (the snapshot's).
+ */
+export async function* matrixCursor(
+	trx: Knex.Transaction,
+	projectId: number,
+	q: MatrixQuery,
+	states: { ids: number[]; ranks: number[] }
+): AsyncGenerator<MatrixDbRow> {
+	const { sql, b } = matrixStatement(projectId, q, null, 0, states);
+	await trx.raw("set local work_mem = '32MB'");
+	yield* trx
+		.raw(sql, b as never)
+		.stream({ batchSize: 250, highWaterMark: 250 }) as AsyncIterable<MatrixDbRow>;
+}
+
+/** Every evidence item's current revision from a cursor (see matrixCursor). */
+export function evidenceCursor(trx: Knex.Transaction, projectId: number): AsyncIterable<EvidenceDbRow> {
+	return trx
+		.raw(EVIDENCE_SQL, [projectId])
+		.stream({ batchSize: 250, highWaterMark: 250 }) as AsyncIterable<EvidenceDbRow>;
+}
+
+function matrixStatement(
+	projectId: number,
+	q: MatrixQuery,
+	limit: number | null,
+	offset: number,
+	states: { ids: number[]; ranks: number[] }
+) {
 	const curWhere: string[] = [];
 	const b: Record<string, unknown> = { projectId, stateIds: states.ids, stateRanks: states.ranks };
 	if (q.level) {
@@ -179,14 +221,7 @@ export async function matrix(
 		b.limit = limit;
 		b.offset = offset;
 	}
-	// A page is one statement (prepared by the pool, see db.ts); the whole matrix (exports, baselines)
-	// gets room for its sorts in memory, in its own transaction.
-	if (limit !== null) return (await db.raw(sql, b as never)).rows as MatrixDbRow[];
-	const run = async (trx: Db) => {
-		await trx.raw("set local work_mem = '32MB'");
-		return (await trx.raw(sql, b as never)).rows as MatrixDbRow[];
-	};
-	return (db as { isTransaction?: boolean }).isTransaction ? run(db) : (db as Knex).transaction(run);
+	return { sql, b };
 }
 
 /** The owners who appear in a project's requirements (for the owner filter). */
@@ -223,8 +258,10 @@ export interface EvidenceDbRow {
 
 /** Every evidence item's current revision, with its review and the requirements it verifies. */
 export async function evidence(db: Db, projectId: number): Promise<EvidenceDbRow[]> {
-	const r = await db.raw(
-		`select e.id as evidence_id, ef.revision, ef.id as file_id, ef.title, ef.kind, ef.method, ef.original_name,
+	return (await db.raw(EVIDENCE_SQL, [projectId])).rows;
+}
+
+const EVIDENCE_SQL = `select e.id as evidence_id, ef.revision, ef.id as file_id, ef.title, ef.kind, ef.method, ef.original_name,
 			ef.size_bytes, ef.sha256, ef.uploaded_by_label, ef.uploaded_at, er.decision, er.comment, er.reviewer_label,
 			er.reviewed_at,
 			coalesce((select array_agg(rq.identifier order by rq.number) from evidence_links el
@@ -233,11 +270,7 @@ export async function evidence(db: Db, projectId: number): Promise<EvidenceDbRow
 		join evidence_files ef on ef.evidence_id = e.id and ef.revision = e.current_revision
 		left join evidence_reviews er on er.evidence_file_id = ef.id
 		where e.project_id = ?
-		order by e.id`,
-		[projectId]
-	);
-	return r.rows;
-}
+		order by e.id`;
 
 /** Active trace links of a project (child derived from parent), by identifier. */
 export async function links(

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { COMBINED_STATES } from '../../verification/index';
+import { COMBINED_STATES, COVERAGE_COUNTS, countWords, type CoverageCount } from '../../verification/index';
 
 // Query parameters of the trace-matrix API (and of its exports).
 
@@ -40,6 +40,15 @@ export const matrixQuery = z.object({
 		emptyToUndefined,
 		z.coerce.number({ message: 'An owner is a user id.' }).int().positive().optional()
 	),
+	// One count of the coverage dashboard (src/lib/verification/coverage.ts): exactly the rows it counted.
+	count: z.preprocess(
+		emptyToUndefined,
+		z
+			.enum(COVERAGE_COUNTS as [string, ...string[]], {
+				message: 'Use a coverage count: state.<state>, how.<how verified> or blocker.<kind>.'
+			})
+			.optional()
+	),
 	q: z.preprocess(emptyToUndefined, z.string().trim().max(200, 'At most 200 characters.').optional()),
 	sort: z.preprocess(emptyToUndefined, z.enum(MATRIX_SORTS).default('identifier')),
 	dir: z.preprocess(emptyToUndefined, z.enum(['asc', 'desc']).default('asc')),
@@ -65,6 +74,7 @@ export function filtersText(q: MatrixQuery): string {
 	if (q.assurance) parts.push(`assurance level ${q.assurance}`);
 	if (q.method) parts.push(`method ${q.method}`);
 	if (q.owner) parts.push(`owner #${q.owner}`);
+	if (q.count) parts.push(countWords(q.count as CoverageCount));
 	if (q.q) parts.push(`text "${q.q}"`);
 	return parts.join(', ');
 }

@@ -2,13 +2,15 @@ import { ENGINE_VERSION } from '../../stability/index';
 import { frequencyText, testedUpper } from '../../verification/decision';
 import {
 	STATE_ORDER,
+	inCount,
 	type AnalysisState,
+	type CoverageCount,
 	type BlockerKind,
 	type CombinedState,
 	type HowVerified
 } from '../../verification/index';
 import { recordEvent, type Actor } from '../audit';
-import { db, type Db } from '../db';
+import { db, readDb, type Db } from '../db';
 import { verificationOf, type RequirementVerification } from '../verification/service';
 import * as repo from './repo';
 import type { MatrixQuery } from './schema';
@@ -311,6 +313,7 @@ async function statesFor(conn: Db, projectId: number, q: MatrixQuery) {
 	const ranks: number[] = [];
 	for (const [id, v] of all) {
 		if (q.state?.length && !q.state.includes(v.state)) continue;
+		if (q.count && !inCount(q.count as CoverageCount, v)) continue;
 		ids.push(id);
 		ranks.push(STATE_ORDER.indexOf(v.state));
 	}
@@ -333,8 +336,8 @@ export interface MatrixPage {
 
 /** One page of the matrix, filtered and sorted in the database. */
 export async function matrixPage(projectId: number, q: MatrixQuery): Promise<MatrixPage> {
-	const { all, filter } = await statesFor(db(), projectId, q);
-	const raw = await repo.matrix(db(), projectId, q, q.limit, q.offset, filter);
+	const { all, filter } = await statesFor(readDb(), projectId, q);
+	const raw = await repo.matrix(readDb(), projectId, q, q.limit, q.offset, filter);
 	const rows = raw.map((r) => toRow(r, stateOf(all, r)));
 	return {
 		rows,
@@ -346,7 +349,11 @@ export async function matrixPage(projectId: number, q: MatrixQuery): Promise<Mat
 }
 
 /** Every row that passes the filters (for streaming and exports). */
-export async function matrixAll(projectId: number, q: MatrixQuery, conn: Db = db()): Promise<MatrixRow[]> {
+export async function matrixAll(
+	projectId: number,
+	q: MatrixQuery,
+	conn: Db = readDb()
+): Promise<MatrixRow[]> {
 	const { all, filter } = await statesFor(conn, projectId, q);
 	return (await repo.matrix(conn, projectId, q, null, 0, filter)).map((r) => toRow(r, stateOf(all, r)));
 }
@@ -384,34 +391,99 @@ export async function snapshot(projectId: number, q?: MatrixQuery, conn?: Db): P
 				version: m.version,
 				contentHash: m.content_hash
 			})),
-			evidence: ev
-				.filter((e) => !q || e.requirements.some((id) => included.has(id)))
-				.map((e) => ({
-					evidenceId: Number(e.evidence_id),
-					revision: e.revision,
-					fileId: Number(e.file_id),
-					title: e.title,
-					kind: e.kind,
-					method: e.method,
-					file: e.original_name,
-					sizeBytes: Number(e.size_bytes),
-					sha256: e.sha256,
-					uploadedBy: e.uploaded_by_label,
-					uploadedAt: iso(e.uploaded_at) ?? '',
-					review: e.decision
-						? {
-								decision: e.decision,
-								comment: e.comment ?? '',
-								reviewer: e.reviewer_label ?? '',
-								reviewedAt: iso(e.reviewed_at) ?? ''
-							}
-						: null,
-					requirements: e.requirements
-				}))
+			evidence: ev.filter((e) => !q || e.requirements.some((id) => included.has(id))).map(toSnapshotEvidence)
 		};
 	};
 	if (conn) return work(conn);
-	return db().transaction(work, { isolationLevel: 'repeatable read', readOnly: true });
+	return readDb().transaction(work, { isolationLevel: 'repeatable read', readOnly: true });
+}
+
+function toSnapshotEvidence(e: repo.EvidenceDbRow): SnapshotEvidence {
+	return {
+		evidenceId: Number(e.evidence_id),
+		revision: e.revision,
+		fileId: Number(e.file_id),
+		title: e.title,
+		kind: e.kind,
+		method: e.method,
+		file: e.original_name,
+		sizeBytes: Number(e.size_bytes),
+		sha256: e.sha256,
+		uploadedBy: e.uploaded_by_label,
+		uploadedAt: iso(e.uploaded_at) ?? '',
+		review: e.decision
+			? {
+					decision: e.decision,
+					comment: e.comment ?? '',
+					reviewer: e.reviewer_label ?? '',
+					reviewedAt: iso(e.reviewed_at) ?? ''
+				}
+			: null,
+		requirements: e.requirements
+	};
+}
+
+/**
+ * A snapshot read from cursors, for the exports: the same rows as snapshot(), but each pass over the
+ * requirements is a fresh cursor over the one repeatable-read transaction, so a 10,000-row export
+ * holds a few hundred rows at a time (plus each requirement's verification state, which the roll-up
+ * needs for the whole tree). Passes run one after another; close() ends the transaction.
+ */
+export interface StreamedSnapshot {
+	project: { key: string; name: string };
+	engineVersion: string;
+	/** How many requirements pass the filters. */
+	total: number;
+	requirements(): AsyncIterable<SnapshotRequirement>;
+	/** Evidence verifying the requirements passed so far (call after a requirements pass). */
+	evidence(): AsyncIterable<SnapshotEvidence>;
+	close(): Promise<void>;
+}
+
+export async function openSnapshot(projectId: number, q: MatrixQuery): Promise<StreamedSnapshot> {
+	const trx = await readDb().transaction({ isolationLevel: 'repeatable read', readOnly: true });
+	try {
+		const project = await repo.projectById(trx, projectId);
+		if (!project) throw new Error(`project ${projectId} not found`);
+		const { all, filter } = await statesFor(trx, projectId, q);
+		// The first row says how many follow (count over the filtered set): open the first pass now.
+		const first = repo.matrixCursor(trx, projectId, q, filter)[Symbol.asyncIterator]();
+		const head = await first.next();
+		const total = head.done ? 0 : Number(head.value.total);
+		const included = new Set<string>();
+		let firstPass: AsyncIterator<repo.MatrixDbRow> | null = first;
+		async function* requirements(): AsyncGenerator<SnapshotRequirement> {
+			const source: AsyncIterable<repo.MatrixDbRow> = firstPass
+				? (async function* () {
+						const it = first;
+						if (!head.done) yield head.value;
+						for (let n = await it.next(); !n.done; n = await it.next()) yield n.value;
+					})()
+				: repo.matrixCursor(trx, projectId, q, filter);
+			firstPass = null;
+			for await (const r of source) {
+				included.add(r.identifier);
+				yield toSnapshotRow(r, stateOf(all, r));
+			}
+		}
+		async function* evidence(): AsyncGenerator<SnapshotEvidence> {
+			for await (const e of repo.evidenceCursor(trx, projectId))
+				if (e.requirements.some((id) => included.has(id))) yield toSnapshotEvidence(e);
+		}
+		return {
+			project: { key: project.key, name: project.name },
+			engineVersion: ENGINE_VERSION,
+			total,
+			requirements,
+			evidence,
+			close: async () => {
+				if (!trx.isCompleted()) await trx.commit();
+			}
+		};
+	} catch (e) {
+		await trx.rollback().catch(() => {});
+		throw e;
+	}
 }
 
 /** Record an export in the audit trail. */
@@ -419,7 +491,7 @@ export async function recordExport(
 	actor: Actor,
 	projectId: number,
 	what: {
-		format: 'xlsx' | 'csv' | 'json';
+		format: 'xlsx' | 'csv' | 'json' | 'pdf' | 'zip';
 		rows: number;
 		filters?: Record<string, unknown>;
 		baselineId?: number | null;

@@ -1,3 +1,4 @@
+import { OPEN_FINDING_STATES } from '../../verification/findings';
 import type { Db } from '../db';
 
 // SQL only: the bulk inputs of the verification state, in one statement. The model version in force is
@@ -27,6 +28,7 @@ export interface FactsRow {
 	latest_engine_version: string | null;
 	evidence: { method: string; decision: 'accepted' | 'rejected' | null }[] | null;
 	children: number[] | null;
+	open_findings: string[] | null;
 }
 
 /**
@@ -61,18 +63,23 @@ ev as (
 	where el.requirement_id in (select id from ids)
 	group by el.requirement_id
 ),
+fnd as (
+	select f.requirement_id, array_agg('F-' || f.number order by f.number) as labels from findings f
+	where f.requirement_id in (select id from ids) and f.state = any(:openFindingStates::text[])
+	group by f.requirement_id
+),
 kids as (
 	select l.parent_id, array_agg(l.child_id order by l.child_id) as children
 	from requirement_links l
 	where l.removed_at is null and l.parent_id in (select id from ids)
 	group by l.parent_id
 )
-select r.id, r.project_id, r.identifier, r.number, rr.status, rr.methods, rr.statement,
+select r.id, r.project_id, r.identifier, r.number, r.review_state as status, rr.methods, rr.statement,
 	ri.spec_id, s."check", s.required_margin, ri.model_version_id,
 	ar.id as run_id, ar.status as run_status, ar.verdict as run_verdict, ar.finished_at as run_finished_at,
 	ar.result -> 'threshold' as run_threshold, ar.result -> 'notApplicable' as not_applicable,
 	coalesce(pend.n, 0) as pending_runs, latest.engine_version as latest_engine_version,
-	ev.items as evidence, kids.children
+	ev.items as evidence, kids.children, fnd.labels as open_findings
 from ids
 join requirements r on r.id = ids.id
 join requirement_revisions rr on rr.requirement_id = r.id and rr.revision = r.current_revision
@@ -84,11 +91,15 @@ left join pend on pend.requirement_id = r.id
 left join latest on latest.requirement_id = r.id
 left join ev on ev.requirement_id = r.id
 left join kids on kids.parent_id = r.id
+left join fnd on fnd.requirement_id = r.id
 order by r.number
 `;
 
 export async function facts(db: Db, scope: FactsScope, engineVersion: string): Promise<FactsRow[]> {
-	const bindings: Record<string, unknown> = { engine: engineVersion };
+	const bindings: Record<string, unknown> = {
+		engine: engineVersion,
+		openFindingStates: [...OPEN_FINDING_STATES]
+	};
 	let scopeSql: string;
 	if ('projectId' in scope) {
 		scopeSql = 'select id from requirements where project_id = :projectId';

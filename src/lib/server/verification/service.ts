@@ -29,6 +29,8 @@ export interface RequirementVerification extends VerificationState {
 	id: number;
 	projectId: number;
 	identifier: string;
+	/** The current revision's status (a retired requirement is in no coverage count). */
+	status: string;
 	analysisInfo: AnalysisStateInfo;
 	evidenceCounts: EvidenceCounts;
 	/** The run of the current inputs (null: none yet). */
@@ -66,7 +68,8 @@ export function factsOf(r: FactsRow): RequirementFacts {
 		pendingRuns: Number(r.pending_runs ?? 0),
 		latestEngineVersion: r.latest_engine_version,
 		evidence: r.evidence ?? [],
-		children: (r.children ?? []).map(Number)
+		children: (r.children ?? []).map(Number),
+		openFindings: r.open_findings ?? []
 	};
 }
 
@@ -104,6 +107,7 @@ export async function verificationOf(
 			id: f.id,
 			projectId: Number(r.project_id),
 			identifier: f.identifier,
+			status: f.status,
 			analysisInfo: analysisInfo(r, f, s.analysis),
 			evidenceCounts: countEvidence(f.evidence),
 			currentRunId: f.run?.id ?? null,

@@ -22,7 +22,7 @@ import {
 	scaleD
 } from '../exact';
 import { type EngineOptions, tick, withBudget } from '../budget';
-import { certifiedPositiveOnHalfLine } from '../certify';
+import { certifiedPositiveOnHalfLine, provedBelow } from '../certify';
 import { toFloatCommon } from '../fpoly';
 import { circleFamily, golden } from '../frequency';
 import type { Plant } from '../model';
@@ -348,13 +348,10 @@ export function popovCore(plant: Plant): PopovCore {
 			(U.c.length > 0 && U.c[0] >= 0n && U.c[U.c.length - 1] > 0n && oddMultiplicityPositiveRoots(U.c) === 0);
 		if (weak) thresholdCertified = Infinity;
 	} else {
-		for (const f of [1e-9, 1e-7, 1e-5, 1e-3, 1e-2, 0.1, 0.5]) {
-			const kk = threshold * (1 - f);
-			if (certifiedPositiveOnHalfLine(popovE(pp, kk, best.q)).positive) {
-				thresholdCertified = kk;
-				break;
-			}
-		}
+		thresholdCertified = provedBelow(
+			threshold,
+			(kk) => certifiedPositiveOnHalfLine(popovE(pp, kk, best.q)).positive
+		);
 	}
 	return {
 		applicable: true,

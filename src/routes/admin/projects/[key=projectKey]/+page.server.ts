@@ -12,6 +12,7 @@ import {
 	removeMembership,
 	setMembership
 } from '$lib/server/identity/service';
+import { INDEPENDENCE_RULES, independenceOf, setIndependence } from '$lib/server/requirements/review';
 import type { Actions, PageServerLoad } from './$types';
 
 async function project(key: string) {
@@ -23,7 +24,11 @@ async function project(key: string) {
 export const load = (async (event) => {
 	await access(event, 'site');
 	const p = await project(event.params.key);
-	const [members, invitations] = await Promise.all([listMembers(p.id), listPendingInvitations(p.id)]);
+	const [members, invitations, independence] = await Promise.all([
+		listMembers(p.id),
+		listPendingInvitations(p.id),
+		independenceOf(p.id)
+	]);
 	return {
 		project: { key: p.key, name: p.name, description: p.description },
 		members: members.map((m) => ({
@@ -39,7 +44,12 @@ export const load = (async (event) => {
 			role: i.role,
 			expiresAt: new Date(i.expires_at).toISOString()
 		})),
-		roles: ROLES.map((r) => ({ value: r, label: ROLE_LABELS[r] }))
+		roles: ROLES.map((r) => ({ value: r, label: ROLE_LABELS[r] })),
+		independence: {
+			rule: independence.review_independence,
+			approvals: independence.independent_approvals,
+			rules: Object.entries(INDEPENDENCE_RULES).map(([value, label]) => ({ value, label }))
+		}
 	};
 }) satisfies PageServerLoad;
 
@@ -87,5 +97,21 @@ export const actions = {
 			throw e;
 		}
 		return { action: 'remove', ok: true };
+	},
+	independence: async (event) => {
+		await access(event, 'site');
+		const p = await project(event.params.key);
+		const form = Object.fromEntries(await event.request.formData());
+		try {
+			await setIndependence(actorOf(event.locals), p.id, form);
+		} catch (e) {
+			if (e instanceof ServiceError)
+				return fail(e.status, {
+					action: 'independence',
+					errors: { ...e.fields, _: e.message } as FieldErrors
+				});
+			throw e;
+		}
+		return { action: 'independence', ok: true };
 	}
 } satisfies Actions;

@@ -14,7 +14,7 @@ export const load = (async (event) => {
 			description: m.description,
 			owner: m.owner_name ?? '—',
 			latestVersion: m.latest_version,
-			latestAt: m.latest_at ? new Date(m.latest_at).toISOString().slice(0, 16).replace('T', ' ') : '',
+			latestAt: m.latest_at ? new Date(m.latest_at).toISOString() : '',
 			latestHash: m.latest_hash ?? '',
 			requirementCount: Number(m.requirement_count)
 		}))

@@ -1,15 +1,18 @@
-import { error } from '@sveltejs/kit';
+import { error, fail, redirect } from '@sveltejs/kit';
+import { actorOf } from '$lib/server/audit';
 import { access, inAddress } from '$lib/server/auth';
-import { getBaseline } from '$lib/server/baselines/service';
+import { latestPackages, requestPackage } from '$lib/server/packages/service';
+import { packageFormProblems } from '$lib/server/packages/schema';
+import { frozenWords, getBaseline, releaseOf } from '$lib/server/baselines/service';
 import { ServiceError } from '$lib/server/errors';
 import { stateWords } from '$lib/server/trace/export';
 import { COMBINED_LOOK, COMBINED_STATES } from '$lib/verification';
-import type { PageServerLoad } from './$types';
+import type { Actions, PageServerLoad } from './$types';
 
 const SHOWN = 1000;
 
 export const load = (async (event) => {
-	const { project, resource } = await access(event, inAddress(event.params, 'baseline'));
+	const { project, resource, can } = await access(event, inAddress(event.params, 'baseline'));
 	let b;
 	try {
 		b = await getBaseline(project.id, resource.id);
@@ -51,6 +54,7 @@ export const load = (async (event) => {
 		requirements: m.requirements.slice(0, SHOWN).map((r) => ({
 			identifier: r.identifier,
 			revision: r.revision,
+			frozen: frozenWords(r.frozen),
 			title: r.title,
 			state: r.state,
 			stateWords: stateWords(r),
@@ -58,6 +62,25 @@ export const load = (async (event) => {
 			verdict: r.latestRun?.verdict ?? '',
 			hash: r.contentHash
 		})),
-		truncated: m.requirements.length > SHOWN
+		truncated: m.requirements.length > SHOWN,
+		can,
+		packages: await latestPackages(project, Number(b.id)),
+		release: await releaseOf(resource.id),
+		deferredFindings: m.deferredFindings ?? []
 	};
 }) satisfies PageServerLoad;
+
+export const actions = {
+	// Queue this baseline's data package; the page then shows its progress.
+	package: async (event) => {
+		const { project, resource } = await access(
+			event,
+			inAddress(event.params, 'baseline'),
+			'generatePackages'
+		);
+		const problems = await packageFormProblems(event.request);
+		if (problems) return fail(400, { action: 'package', errors: problems });
+		await requestPackage(actorOf(event.locals), project, resource.id);
+		redirect(303, `/p/${project.key}/baselines/${resource.id}`);
+	}
+} satisfies Actions;

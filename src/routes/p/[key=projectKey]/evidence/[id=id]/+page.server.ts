@@ -23,6 +23,12 @@ import {
 	submittedFields
 } from '$lib/server/evidence/service';
 import { formatBytes } from '$lib/server/evidence/upload';
+import { signerOf } from '$lib/server/identity/reauth';
+import { signsWithProvider, startProviderSigning } from '$lib/server/identity/provider-signing';
+import { ssoProvider } from '$lib/server/identity/sso';
+import { reviewForm } from '$lib/server/evidence/schema';
+import { parseOrThrow } from '$lib/server/errors';
+import { MEANINGS } from '$lib/server/signatures/meanings';
 import type { Actions, PageServerLoad } from './$types';
 
 /** A refused action: its errors and what was submitted (text fields), so the form shows it again. */
@@ -76,6 +82,8 @@ export const load = (async (event) => {
 		can,
 		// The uploader of a revision may not review it (the service refuses it too).
 		ownRevision: current.uploadedById === user.id,
+		// An account without a password confirms its signature by a fresh login at the identity provider.
+		signVia: (await signsWithProvider(Number(user.id))) ? (ssoProvider()?.name ?? null) : null,
 		inlineKind: shown.contentType.startsWith('image/')
 			? 'image'
 			: shown.contentType === 'application/pdf'
@@ -86,17 +94,34 @@ export const load = (async (event) => {
 
 export const actions = {
 	review: async (event) => {
-		const { project, role, resource } = await access(
+		const { project, role, resource, user } = await access(
 			event,
 			inAddress(event.params, 'evidence'),
 			'reviewEvidence'
 		);
 		const id = resource.id;
 		const fields = Object.fromEntries(await event.request.formData());
+		const { password: _password, ...typed } = fields;
+		void _password;
 		try {
-			await reviewEvidence({ evidenceId: id, project, actor: actorOf(event.locals), role, fields });
+			if (await signsWithProvider(Number(user.id))) {
+				const v = parseOrThrow(reviewForm, typed);
+				const act = v.decision === 'accepted' ? 'evidence.accept' : 'evidence.reject';
+				const { next } = await startProviderSigning(user, event.url.origin, {
+					projectId: project.id,
+					act,
+					meaning: MEANINGS[act],
+					target: { type: 'evidence', id, revision: v.revision },
+					fields: typed,
+					returnTo: event.url.pathname
+				});
+				return { action: 'review', next };
+			}
+			const signer = await signerOf(event, user, fields);
+			await reviewEvidence({ evidenceId: id, project, actor: actorOf(event.locals), role, fields, signer });
 		} catch (e) {
-			return failed('review', e, fields);
+			// The password is never sent back to the form.
+			return failed('review', e, typed);
 		}
 		return { action: 'review', ok: true };
 	},

@@ -29,7 +29,7 @@ export const load = (async (event) => {
 			version: v.version,
 			note: v.note,
 			hash: v.content_hash,
-			at: new Date(v.created_at).toISOString().slice(0, 16).replace('T', ' '),
+			at: new Date(v.created_at).toISOString(),
 			author: v.author_name ?? '—',
 			points: Number(v.point_count)
 		})),

@@ -20,7 +20,7 @@ export const load = (async (event) => {
 			note: x.note,
 			hash: x.content_hash,
 			author: x.author_name ?? '—',
-			at: new Date(x.created_at).toISOString().slice(0, 16).replace('T', ' '),
+			at: new Date(x.created_at).toISOString(),
 			operatingPoints: x.content.operatingPoints
 		});
 		return {
