@@ -25,11 +25,12 @@ export const XHTML_NS = 'http://www.w3.org/1999/xhtml';
 /** When Loopwarden's attribute mapping was defined: the LAST-CHANGE of its datatypes and types. */
 export const MAPPING_DATE = '2026-12-02T00:00:00.000Z';
 
-export const LEVEL_VALUES = ['system', 'subsystem', 'loop'] as const;
-export const ASSURANCE_VALUES = ['A', 'B', 'C', 'D', 'E'] as const;
-export const METHOD_VALUES = ['analysis', 'test', 'inspection', 'demonstration'] as const;
-/** The review states (src/lib/server/requirements/schema.ts STATUSES; a unit test keeps them equal). */
-export const STATUS_VALUES = ['draft', 'in-review', 'approved', 'returned', 'retired'] as const;
+// The enumerations are the requirement vocabularies themselves (vocabulary.ts).
+import { ASSURANCE_LEVELS, LEVELS, METHODS, STATUSES } from './vocabulary';
+export const LEVEL_VALUES = LEVELS;
+export const ASSURANCE_VALUES = ASSURANCE_LEVELS;
+export const METHOD_VALUES = METHODS;
+export const STATUS_VALUES = STATUSES;
 export const CRITERION_VALUES = ['circle', 'popov', 'positive-real', 'margins'] as const;
 
 export interface InterchangeSpec {

@@ -7,7 +7,6 @@ import { matchEnum, sheetRecords } from '../../../src/lib/requirements/interchan
 import { STATUSES } from '../../../src/lib/server/requirements/schema';
 import {
 	REQIF_NS,
-	STATUS_VALUES,
 	ReqifFormatError,
 	objectIdFor,
 	parseReqif,
@@ -177,11 +176,10 @@ describe('writing ReqIF', () => {
 		expect(records[1].lastChange).toBe('2026-11-02T10:00:00.000Z');
 	});
 
-	it('the Status enumeration is the review states the product has, and each one writes a valid file', () => {
-		// One list of states (src/lib/server/requirements/schema.ts); the writer's copy must not drift from it,
-		// or a requirement returned for rework would reference an enumeration literal the file does not define
-		// (OMG ReqIF 1.2, ENUM-VALUE-REF must name an ENUM-VALUE of the attribute's DATATYPE-DEFINITION-ENUMERATION).
-		expect([...STATUS_VALUES]).toEqual([...STATUSES]);
+	it('every review state the product has writes a valid file', () => {
+		// One list of states (src/lib/requirements/vocabulary.ts) is the Status enumeration; a state
+		// must not reference a literal the file does not define (OMG ReqIF 1.2: ENUM-VALUE-REF names an
+		// ENUM-VALUE of the attribute's DATATYPE-DEFINITION-ENUMERATION).
 		for (const status of STATUSES) {
 			const d = doc();
 			d.requirements[1].status = status;

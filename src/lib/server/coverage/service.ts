@@ -9,6 +9,7 @@ import {
 	type CoverageCount,
 	type HowVerified
 } from '../../verification/index';
+import { ASSURANCE_LEVELS, LEVELS } from '../../requirements/vocabulary';
 import { db } from '../db';
 import { matrixAll, type MatrixRow } from '../trace/service';
 import { points, upsertToday, type CoveragePoint } from './repo';
@@ -36,7 +37,7 @@ export interface Coverage {
 
 const zero = (): StateCounts => Object.fromEntries(COMBINED_STATES.map((s) => [s, 0])) as StateCounts;
 
-function groupBy(rows: MatrixRow[], key: (r: MatrixRow) => string, order: string[]) {
+function groupBy(rows: MatrixRow[], key: (r: MatrixRow) => string, order: readonly string[]) {
 	const m = new Map<string, { key: string; total: number; states: StateCounts }>(
 		order.map((k) => [k, { key: k, total: 0, states: zero() }])
 	);
@@ -59,8 +60,8 @@ export function coverageOf(all: MatrixRow[]): Omit<Coverage, 'trend'> {
 	return {
 		total: rows.length,
 		states,
-		byLevel: groupBy(rows, (r) => r.level, ['system', 'subsystem', 'loop']),
-		byAssurance: groupBy(rows, (r) => r.assuranceLevel, ['A', 'B', 'C', 'D', 'E']),
+		byLevel: groupBy(rows, (r) => r.level, LEVELS),
+		byAssurance: groupBy(rows, (r) => r.assuranceLevel, ASSURANCE_LEVELS),
 		how: Object.fromEntries(HOW_VERIFIED.map((h) => [h, n(`how.${h}`)])) as Record<HowVerified, number>,
 		blocking: Object.fromEntries(BLOCKER_KINDS.map((k) => [k, n(`blocker.${k}`)])) as Record<
 			BlockerKind,

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { ASSURANCE_LEVELS } from '../../requirements/vocabulary';
 import {
 	ANALYSIS_LOOK,
 	canSignMove,
@@ -544,7 +545,7 @@ const listSchema = z
 			.int()
 			.positive('requirement is an id.')
 			.optional(),
-		assurance: z.enum(['A', 'B', 'C', 'D', 'E'], { error: 'assurance is one of A to E.' }).optional()
+		assurance: z.enum(ASSURANCE_LEVELS, { error: 'assurance is one of A to E.' }).optional()
 	})
 	.strict();
 

@@ -2,15 +2,9 @@ import { z } from 'zod';
 import { checkSchema } from '../../stability/index';
 import { SPEC_TEMPLATES } from '../../requirements/templates';
 
-export const LEVELS = ['system', 'subsystem', 'loop'] as const;
-export const ASSURANCE_LEVELS = ['A', 'B', 'C', 'D', 'E'] as const;
-export const METHODS = ['analysis', 'test', 'inspection', 'demonstration'] as const;
-/**
- * The review state of a requirement's current revision. Only draft and retired are written with a
- * revision; in review, approved and returned are reached through the review workflow (review.ts), with
- * signatures for approving and returning.
- */
-export const STATUSES = ['draft', 'in-review', 'approved', 'returned', 'retired'] as const;
+import { ASSURANCE_LEVELS, LEVELS, METHODS, STATUSES } from '../../requirements/vocabulary';
+
+export { ASSURANCE_LEVELS, LEVELS, METHODS, STATUSES };
 export const WRITABLE_STATUSES = ['draft', 'retired'] as const;
 export type Level = (typeof LEVELS)[number];
 export type AssuranceLevel = (typeof ASSURANCE_LEVELS)[number];

@@ -1,10 +1,9 @@
 import { z } from 'zod';
+import { ASSURANCE_LEVELS, LEVELS, METHODS } from '../../requirements/vocabulary';
 import { COMBINED_STATES, COVERAGE_COUNTS, countWords, type CoverageCount } from '../../verification/index';
 
 // Query parameters of the trace-matrix API (and of its exports).
 
-const LEVELS = ['system', 'subsystem', 'loop'] as const;
-const METHODS = ['analysis', 'test', 'inspection', 'demonstration'] as const;
 export const MATRIX_SORTS = [
 	'identifier',
 	'title',
@@ -28,10 +27,7 @@ export const matrixQuery = z.object({
 		emptyToUndefined,
 		z.enum(LEVELS, { message: 'Use system, subsystem or loop.' }).optional()
 	),
-	assurance: z.preprocess(
-		emptyToUndefined,
-		z.enum(['A', 'B', 'C', 'D', 'E'], { message: 'Use A to E.' }).optional()
-	),
+	assurance: z.preprocess(emptyToUndefined, z.enum(ASSURANCE_LEVELS, { message: 'Use A to E.' }).optional()),
 	method: z.preprocess(
 		emptyToUndefined,
 		z.enum(METHODS, { message: 'Use analysis, test, inspection or demonstration.' }).optional()
